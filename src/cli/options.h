@@ -1,0 +1,44 @@
+// Shared option handling for subcommands: Boost.Program_options with value
+// types for lengths, wavelengths and views, `--help`, and `--config FILE`
+// (INI, the same names as the long options; the command line wins).
+#pragma once
+
+#include <iosfwd>
+#include <string>
+#include <vector>
+
+#include <boost/program_options.hpp>
+
+#include "core/light_source.h"
+#include "core/quantity.h"
+#include "optics/media.h"
+
+namespace figura {
+
+// Program_options validators so that options bind straight to fields of the
+// library's options structs. Each throws po::invalid_option_value carrying
+// our readable message.
+void validate(boost::any& v, const std::vector<std::string>& values, Length* /*unused*/, int);
+void validate(boost::any& v, const std::vector<std::string>& values, Wavelength* /*unused*/,
+              int);
+void validate(boost::any& v, const std::vector<std::string>& values, View* /*unused*/, int);
+
+}  // namespace figura
+
+namespace figura::cli {
+
+namespace po = boost::program_options;
+
+// Adds --upper-index, --gap-index, --lower-index bound to `stack`.
+void AddMediaOptions(po::options_description& desc, MediaStack* stack);
+
+// Parses `args` for `command` with `desc` (which gets --help and --config
+// added) and positional arguments `positional` (may be empty). Returns false
+// when --help was asked for and printed to `out`; throws po::error or
+// InputError on bad input. `usage` is the synopsis line printed with help.
+bool ParseCommand(const std::string& command, const std::string& usage,
+                  const std::vector<std::string>& args, po::options_description& desc,
+                  const po::positional_options_description& positional,
+                  po::variables_map* vm, std::ostream& out);
+
+}  // namespace figura::cli

@@ -1,0 +1,57 @@
+// Loading fringe photographs: TIFF through libtiff (8/16-bit unsigned,
+// 32-bit float; grey or RGB; strips or tiles; any compression libtiff
+// reads), PNG/JPEG/BMP through OpenCV (16-bit kept). Formats are recognised
+// by their signature, not their extension. Sizes are checked from the header
+// before any pixel buffer is allocated.
+#pragma once
+
+#include <cstdint>
+#include <filesystem>
+#include <string>
+
+#include <opencv2/core.hpp>
+
+namespace figura {
+
+// Facts about a loaded image, written into every result's `input`.
+struct ImageInfo {
+  std::string path;
+  std::string format;  // "tiff", "png", "jpeg", "bmp"
+  int width = 0;
+  int height = 0;
+  int bit_depth = 0;   // bits per sample: 8, 16 or 32
+  int channels = 0;    // samples per pixel in the file: 1, 3 or 4
+  bool is_float = false;
+  std::string sha256;  // of the file bytes
+  double full_scale = 0.0;  // 255, 65535, or 1.0 for float data
+};
+
+// Limits applied while loading.
+struct LoadOptions {
+  // Refuse images with more pixels than this (checked from the header).
+  std::int64_t max_pixels = 200'000'000;
+  // Refuse files larger than this many bytes.
+  std::uintmax_t max_file_bytes = std::uintmax_t{4} << 30;
+
+  // An empty string when usable, otherwise a readable reason.
+  [[nodiscard]] std::string Check() const;
+};
+
+// A photograph as one grey channel of 32-bit floats in the file's own scale
+// (0..255, 0..65535, or the float values), plus its metadata. Colour is
+// reduced to luminance with Rec. 601 weights (0.299 R + 0.587 G + 0.114 B).
+struct Image {
+  cv::Mat pixels;  // CV_32FC1, rows = height
+  ImageInfo info;
+};
+
+// Loads an image. Throws InputError with one line naming the file and the
+// problem (missing, a directory, unreadable, unknown format, truncated, too
+// large, unsupported sample format).
+Image LoadImage(const std::filesystem::path& path, const LoadOptions& options = {});
+
+// Reads only the header: format, size, depth, channels (no pixels, no hash).
+// Throws InputError like LoadImage.
+ImageInfo ProbeImage(const std::filesystem::path& path, const LoadOptions& options = {});
+
+}  // namespace figura

@@ -1,0 +1,24 @@
+// Writing images atomically: TIFF through libtiff (8/16-bit unsigned grey,
+// 32-bit float grey), PNG/JPEG through OpenCV (8 or 16-bit, grey or BGR).
+#pragma once
+
+#include <filesystem>
+
+#include <opencv2/core.hpp>
+
+namespace figura {
+
+// How an image is encoded; the format follows the extension (.tif/.tiff,
+// .png, .jpg/.jpeg).
+struct ImageWriteOptions {
+  int jpeg_quality = 95;     // 1..100
+  bool overwrite = true;     // false: refuse an existing file (OutputError)
+};
+
+// Writes `image` (CV_8U, CV_16U, or for TIFF CV_32F; 1 or 3 channels, BGR) to
+// `path` atomically (a temporary name in the same folder, then rename).
+// Throws OutputError naming the file on failure; leaves no partial file.
+void WriteImage(const std::filesystem::path& path, const cv::Mat& image,
+                const ImageWriteOptions& options = {});
+
+}  // namespace figura

@@ -1,0 +1,59 @@
+#include "core/quantity.h"
+
+#include <gtest/gtest.h>
+
+#include "core/error.h"
+
+namespace figura {
+namespace {
+
+TEST(ParseLength, AcceptsTheUnitsOfTheIssue) {
+  EXPECT_NEAR(ParseLength("589.29nm").nm(), 589.29, 1e-9);
+  EXPECT_NEAR(ParseLength("0.58929 um").nm(), 589.29, 1e-9);
+  EXPECT_NEAR(ParseLength("12.5\xC2\xB5m").um(), 12.5, 1e-12);  // micro sign
+  EXPECT_NEAR(ParseLength("12.5\xCE\xBCm").um(), 12.5, 1e-12);  // Greek mu
+  EXPECT_NEAR(ParseLength("8um").um(), 8.0, 1e-12);
+  EXPECT_NEAR(ParseLength("100mm").mm(), 100.0, 1e-12);
+  EXPECT_NEAR(ParseLength("1.2 m").metres, 1.2, 1e-15);
+  EXPECT_NEAR(ParseLength("2.5cm").mm(), 25.0, 1e-12);
+  EXPECT_NEAR(ParseLength("  -100mm ").mm(), -100.0, 1e-12);
+  EXPECT_NEAR(ParseLength("+3e2nm").nm(), 300.0, 1e-9);
+}
+
+TEST(ParseLength, BareNumberNamesTheAcceptedUnits) {
+  try {
+    ParseLength("589.29", "--wavelength");
+    FAIL() << "a bare number must be refused";
+  } catch (const InputError& e) {
+    const std::string msg = e.what();
+    EXPECT_NE(msg.find("--wavelength"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("no unit"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("nm, um"), std::string::npos) << msg;
+  }
+}
+
+TEST(ParseLength, RefusesNonsense) {
+  EXPECT_THROW(ParseLength("12 furlongs"), InputError);
+  EXPECT_THROW(ParseLength("nm"), InputError);
+  EXPECT_THROW(ParseLength(""), InputError);
+  EXPECT_THROW(ParseLength("1e999mm"), InputError);
+  EXPECT_THROW(ParseLength("nan mm"), InputError);
+  EXPECT_THROW(ParseLength("5 mmm"), InputError);
+}
+
+TEST(ParseNumber, PlainNumbersOnly) {
+  EXPECT_DOUBLE_EQ(ParseNumber("1.5168"), 1.5168);
+  EXPECT_THROW(ParseNumber("1.5x"), InputError);
+  EXPECT_THROW(ParseNumber(""), InputError);
+  EXPECT_THROW(ParseNumber("inf"), InputError);
+}
+
+TEST(FormatLength, PicksAReadableUnit) {
+  EXPECT_EQ(FormatLength(Length::Nanometres(589.2938)), "589.2938 nm");
+  EXPECT_EQ(FormatLength(Length::Micrometres(8)), "8 um");
+  EXPECT_EQ(FormatLength(Length::Millimetres(-100)), "-100 mm");
+  EXPECT_EQ(FormatLength(Length::Metres(1.2)), "1.2 m");
+}
+
+}  // namespace
+}  // namespace figura
