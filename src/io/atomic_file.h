@@ -20,8 +20,9 @@ void WriteFileAtomic(const std::filesystem::path& path, std::string_view bytes,
 // Calls `write_temp(temp_path)` to produce the file under a temporary name in
 // the same folder, then renames it to `path`. Removes the temporary file on
 // any exception, which is rethrown (library errors become OutputError).
-void WriteViaTemp(const std::filesystem::path& path,
-                  const std::function<void(const std::filesystem::path&)>& write_temp,
-                  Overwrite overwrite = Overwrite::kAllow);
+void WriteViaTemp(
+    const std::filesystem::path& path,
+    const std::function<void(const std::filesystem::path&)>& write_temp,
+    Overwrite overwrite = Overwrite::kAllow);
 
 }  // namespace figura

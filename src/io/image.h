@@ -7,9 +7,8 @@
 
 #include <cstdint>
 #include <filesystem>
-#include <string>
-
 #include <opencv2/core.hpp>
+#include <string>
 
 namespace figura {
 
@@ -19,10 +18,10 @@ struct ImageInfo {
   std::string format;  // "tiff", "png", "jpeg", "bmp"
   int width = 0;
   int height = 0;
-  int bit_depth = 0;   // bits per sample: 8, 16 or 32
-  int channels = 0;    // samples per pixel in the file: 1, 3 or 4
+  int bit_depth = 0;  // bits per sample: 8, 16 or 32
+  int channels = 0;   // samples per pixel in the file: 1, 3 or 4
   bool is_float = false;
-  std::string sha256;  // of the file bytes
+  std::string sha256;       // of the file bytes
   double full_scale = 0.0;  // 255, 65535, or 1.0 for float data
 };
 
@@ -48,10 +47,12 @@ struct Image {
 // Loads an image. Throws InputError with one line naming the file and the
 // problem (missing, a directory, unreadable, unknown format, truncated, too
 // large, unsupported sample format).
-Image LoadImage(const std::filesystem::path& path, const LoadOptions& options = {});
+Image LoadImage(const std::filesystem::path& path,
+                const LoadOptions& options = {});
 
 // Reads only the header: format, size, depth, channels (no pixels, no hash).
 // Throws InputError like LoadImage.
-ImageInfo ProbeImage(const std::filesystem::path& path, const LoadOptions& options = {});
+ImageInfo ProbeImage(const std::filesystem::path& path,
+                     const LoadOptions& options = {});
 
 }  // namespace figura

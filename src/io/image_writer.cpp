@@ -1,0 +1,168 @@
+#include "io/image_writer.h"
+
+#include <algorithm>
+#include <cctype>
+#include <cstring>
+#include <opencv2/imgcodecs.hpp>
+#include <opencv2/imgproc.hpp>
+#include <string>
+#include <vector>
+
+#include "core/error.h"
+#include "core/version.h"
+#include "io/atomic_file.h"
+#include "io/tiff_io.h"
+
+namespace figura {
+namespace {
+
+namespace fs = std::filesystem;
+
+enum class OutFormat { kTiff, kPng, kJpeg };
+
+// Target size of one TIFF strip before compression.
+constexpr std::size_t kStripBytes = std::size_t{256} << 10;
+
+[[noreturn]] void Fail(const fs::path& path, const std::string& what) {
+  throw OutputError(path.string() + ": " + what);
+}
+
+OutFormat FormatFor(const fs::path& path) {
+  std::string ext = path.extension().string();
+  std::transform(ext.begin(), ext.end(), ext.begin(), [](unsigned char c) {
+    return static_cast<char>(std::tolower(c));
+  });
+  if (ext == ".tif" || ext == ".tiff") return OutFormat::kTiff;
+  if (ext == ".png") return OutFormat::kPng;
+  if (ext == ".jpg" || ext == ".jpeg") return OutFormat::kJpeg;
+  Fail(path, "unknown image extension (use .tif, .tiff, .png, .jpg or .jpeg)");
+}
+
+// Encodes an 8/16-bit (1 or 3 channel, BGR) or 32-bit float grey image as a
+// deflate-compressed TIFF in memory.
+std::string EncodeTiff(const fs::path& path, const cv::Mat& image) {
+  const int depth = image.depth();
+  const int channels = image.channels();
+  const bool is_float = depth == CV_32F;
+  if (is_float && channels != 1)
+    Fail(path, "float TIFF output must be one channel");
+  const auto bytes_per_sample = static_cast<std::size_t>(image.elemSize1());
+  const std::size_t row_bytes =
+      static_cast<std::size_t>(image.cols) * image.elemSize();
+  const auto rows_per_strip =
+      static_cast<std::uint32_t>(std::clamp<std::size_t>(
+          kStripBytes / row_bytes, 1, static_cast<std::size_t>(image.rows)));
+
+  TiffMessages messages;
+  TiffMemoryFile file;
+  const TiffHandle tif = OpenTiffForWriting(path.string(), &file, &messages);
+  const auto fail = [&](const std::string& what) {
+    Fail(path, what + (messages.first_error.empty()
+                           ? ""
+                           : " (" + messages.first_error + ")"));
+  };
+  if (!tif) fail("cannot encode TIFF");
+  TIFF* t = tif.get();
+  const std::string software = std::string(kToolName) + " " + Version();
+  const bool ok =
+      TIFFSetField(t, TIFFTAG_IMAGEWIDTH,
+                   static_cast<std::uint32_t>(image.cols)) == 1 &&
+      TIFFSetField(t, TIFFTAG_IMAGELENGTH,
+                   static_cast<std::uint32_t>(image.rows)) == 1 &&
+      TIFFSetField(t, TIFFTAG_BITSPERSAMPLE,
+                   static_cast<std::uint16_t>(8 * bytes_per_sample)) == 1 &&
+      TIFFSetField(t, TIFFTAG_SAMPLESPERPIXEL,
+                   static_cast<std::uint16_t>(channels)) == 1 &&
+      TIFFSetField(t, TIFFTAG_SAMPLEFORMAT,
+                   is_float ? SAMPLEFORMAT_IEEEFP : SAMPLEFORMAT_UINT) == 1 &&
+      TIFFSetField(t, TIFFTAG_PHOTOMETRIC,
+                   channels == 3 ? PHOTOMETRIC_RGB : PHOTOMETRIC_MINISBLACK) ==
+          1 &&
+      TIFFSetField(t, TIFFTAG_PLANARCONFIG, PLANARCONFIG_CONTIG) == 1 &&
+      TIFFSetField(t, TIFFTAG_COMPRESSION, COMPRESSION_ADOBE_DEFLATE) == 1 &&
+      TIFFSetField(t, TIFFTAG_PREDICTOR,
+                   is_float ? PREDICTOR_FLOATINGPOINT : PREDICTOR_HORIZONTAL) ==
+          1 &&
+      TIFFSetField(t, TIFFTAG_ROWSPERSTRIP, rows_per_strip) == 1 &&
+      TIFFSetField(t, TIFFTAG_SOFTWARE, software.c_str()) == 1;
+  if (!ok) fail("cannot encode TIFF");
+
+  cv::Mat rgb = image;
+  if (channels == 3) cv::cvtColor(image, rgb, cv::COLOR_BGR2RGB);
+  std::vector<std::uint8_t> strip(row_bytes * rows_per_strip);
+  std::uint32_t index = 0;
+  for (int y0 = 0; y0 < image.rows;
+       y0 += static_cast<int>(rows_per_strip), ++index) {
+    const int rows =
+        std::min(static_cast<int>(rows_per_strip), image.rows - y0);
+    for (int r = 0; r < rows; ++r) {
+      std::memcpy(strip.data() + static_cast<std::size_t>(r) * row_bytes,
+                  rgb.ptr(y0 + r), row_bytes);
+    }
+    // The predictor works in place, so the strip is refilled every time.
+    if (TIFFWriteEncodedStrip(
+            t, index, strip.data(),
+            static_cast<tmsize_t>(row_bytes * static_cast<std::size_t>(rows))) <
+        0) {
+      fail("cannot encode TIFF");
+    }
+  }
+  if (TIFFWriteDirectory(t) != 1 || TIFFFlush(t) != 1)
+    fail("cannot encode TIFF");
+  return std::move(file.bytes);
+}
+
+std::string EncodeWithOpenCv(const fs::path& path, const cv::Mat& image,
+                             OutFormat format,
+                             const ImageWriteOptions& options) {
+  std::vector<int> params;
+  const char* ext = ".png";
+  if (format == OutFormat::kJpeg) {
+    if (image.depth() != CV_8U) Fail(path, "JPEG output must be 8-bit");
+    ext = ".jpg";
+    params = {cv::IMWRITE_JPEG_QUALITY, options.jpeg_quality};
+  } else if (image.depth() != CV_8U && image.depth() != CV_16U) {
+    Fail(path, "PNG output must be 8 or 16-bit");
+  }
+  std::vector<std::uint8_t> buf;
+  try {
+    if (!cv::imencode(ext, image, buf, params))
+      Fail(path, "cannot encode image");
+  } catch (const cv::Exception& e) {
+    Fail(path, "cannot encode image (" + e.err + ")");
+  }
+  return std::string(buf.begin(), buf.end());
+}
+
+}  // namespace
+
+std::string ImageWriteOptions::Check() const {
+  if (jpeg_quality < 1 || jpeg_quality > 100)
+    return "jpeg_quality must be between 1 and 100";
+  return {};
+}
+
+void WriteImage(const fs::path& path, const cv::Mat& image,
+                const ImageWriteOptions& options) {
+  const std::string problem = options.Check();
+  if (!problem.empty()) Fail(path, problem);
+  const OutFormat format = FormatFor(path);
+  if (image.empty()) Fail(path, "no image to write");
+  const int depth = image.depth();
+  if (depth != CV_8U && depth != CV_16U && depth != CV_32F) {
+    Fail(path,
+         "unsupported pixel type (need 8/16-bit unsigned or 32-bit float)");
+  }
+  if (image.channels() != 1 && image.channels() != 3) {
+    Fail(path, "unsupported channel count " + std::to_string(image.channels()) +
+                   " (need 1 or 3)");
+  }
+  const std::string bytes =
+      format == OutFormat::kTiff
+          ? EncodeTiff(path, image)
+          : EncodeWithOpenCv(path, image, format, options);
+  WriteFileAtomic(path, bytes,
+                  options.overwrite ? Overwrite::kAllow : Overwrite::kRefuse);
+}
+
+}  // namespace figura

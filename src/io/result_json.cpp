@@ -1,0 +1,50 @@
+#include "io/result_json.h"
+
+#include <cmath>
+#include <iostream>
+
+#include "core/version.h"
+
+namespace figura {
+
+nlohmann::json InputJson(const ImageInfo& info) {
+  return {{"path", info.path},
+          {"sha256", info.sha256},
+          {"width", info.width},
+          {"height", info.height},
+          {"bit_depth", info.bit_depth},
+          {"channels", info.channels},
+          {"format", info.format},
+          {"sample_format", info.is_float ? "float" : "uint"}};
+}
+
+nlohmann::json ToolJson() {
+  return {{"name", kToolName}, {"version", Version()}};
+}
+
+nlohmann::json StatusJson(Status status,
+                          const std::vector<std::string>& messages) {
+  return {{"state", StatusName(status)}, {"messages", messages}};
+}
+
+nlohmann::json FiniteOrNull(double value) {
+  if (!std::isfinite(value)) return nullptr;
+  return value;
+}
+
+void WriteJson(const std::string& path, const nlohmann::json& value,
+               Overwrite overwrite) {
+  // Invalid UTF-8 (e.g. from a file name) is replaced rather than thrown on.
+  const std::string text =
+      value.dump(2, ' ', false, nlohmann::json::error_handler_t::replace) +
+      "\n";
+  if (path == "-") {
+    std::cout.write(text.data(), static_cast<std::streamsize>(text.size()));
+    std::cout.flush();
+    if (!std::cout) throw OutputError("standard output: write failed");
+    return;
+  }
+  WriteFileAtomic(path, text, overwrite);
+}
+
+}  // namespace figura

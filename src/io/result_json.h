@@ -1,0 +1,37 @@
+// JSON helpers shared by every command's result: the `input`, `tool` and
+// `status` blocks of ../shared/design.md, and writing a result to a file
+// (atomically) or to standard output ("-").
+#pragma once
+
+#include <filesystem>
+#include <nlohmann/json.hpp>
+#include <string>
+#include <vector>
+
+#include "core/error.h"
+#include "io/atomic_file.h"
+#include "io/image.h"
+
+namespace figura {
+
+// {"path", "sha256", "width", "height", "bit_depth", "channels", "format",
+// "sample_format": "uint"|"float"}.
+nlohmann::json InputJson(const ImageInfo& info);
+
+// {"name": "figura", "version": "..."}.
+nlohmann::json ToolJson();
+
+// {"state": "ok"|"warning"|"error", "messages": [...]}.
+nlohmann::json StatusJson(Status status,
+                          const std::vector<std::string>& messages);
+
+// A finite number, or null for NaN/Inf (a non-finite value never reaches a
+// report as a number).
+nlohmann::json FiniteOrNull(double value);
+
+// Writes `value` pretty-printed (2 spaces, trailing newline) to `path`
+// atomically, or to standard output when path is "-". Throws OutputError.
+void WriteJson(const std::string& path, const nlohmann::json& value,
+               Overwrite overwrite = Overwrite::kAllow);
+
+}  // namespace figura
