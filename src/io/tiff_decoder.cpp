@@ -165,14 +165,40 @@ std::vector<std::uint8_t> Allocate(const ByteSource& src, std::uint64_t bytes) {
                      std::to_string(bytes) + " bytes, limit " +
                      std::to_string(kTiffMaxChunkBytes) + ")");
   }
-  return std::vector<std::uint8_t>(bytes);
+  try {
+    return std::vector<std::uint8_t>(bytes);
+  } catch (const std::bad_alloc&) {
+    throw InputError(src.Name() +
+                     ": not enough memory for a TIFF strip or tile of " +
+                     std::to_string(bytes) + " bytes");
+  }
 }
 
 cv::Mat ReadPixels(TIFF* tif, const ByteSource& src,
                    const TiffMessages& messages, const Layout& l) {
-  cv::Mat out(static_cast<int>(l.height), static_cast<int>(l.width), CV_32FC1,
-              cv::Scalar(0));
   const std::uint64_t bytes_per_sample = static_cast<std::uint64_t>(l.bits) / 8;
+  std::uint16_t compression = COMPRESSION_NONE;
+  TIFFGetFieldDefaulted(tif, TIFFTAG_COMPRESSION, &compression);
+  const std::uint64_t raw_bytes = std::uint64_t{l.width} * l.height *
+                                  static_cast<std::uint64_t>(l.samples) *
+                                  bytes_per_sample;
+  if (compression == COMPRESSION_NONE && raw_bytes > src.Size()) {
+    // Uncompressed pixels cannot be larger than the file: refuse before
+    // allocating the image.
+    throw InputError(src.Name() + ": truncated or corrupt TIFF (" +
+                     std::to_string(raw_bytes) +
+                     " bytes of pixel data described, file has " +
+                     std::to_string(src.Size()) + ")");
+  }
+  cv::Mat out;
+  try {
+    out.create(static_cast<int>(l.height), static_cast<int>(l.width), CV_32FC1);
+  } catch (const cv::Exception&) {
+    throw InputError(src.Name() + ": not enough memory for a " +
+                     std::to_string(l.width) + " x " +
+                     std::to_string(l.height) + " image");
+  }
+  out.setTo(cv::Scalar(0));
   // Samples per pixel inside one strip/tile buffer.
   const int stride = l.separate ? 1 : l.samples;
   const int planes = l.separate ? l.used : 1;
