@@ -4,9 +4,8 @@
 #pragma once
 
 #include <gtest/gtest.h>
-#include <tiffio.h>
-
 #include <sys/wait.h>
+#include <tiffio.h>
 
 #include <algorithm>
 #include <cmath>
@@ -65,11 +64,13 @@ inline double Pattern(int x, int y, int c, int bits) {
 
 // Expected grey value from RGB samples with the Rec. 601 luma weights
 // (ITU-R BT.601-7, 2.5.1: 0.299 R + 0.587 G + 0.114 B).
-inline double Rec601(double r, double g, double b) { return 0.299 * r + 0.587 * g + 0.114 * b; }
+inline double Rec601(double r, double g, double b) {
+  return 0.299 * r + 0.587 * g + 0.114 * b;
+}
 
 // A TIFF layout to write.
 struct TiffSpec {
-  int width = 37;   // odd sizes: partial edge strips and tiles
+  int width = 37;  // odd sizes: partial edge strips and tiles
   int height = 23;
   int bits = 8;     // 8, 16 (unsigned) or 32 (float)
   int samples = 1;  // 1 grey, 3 RGB, 4 RGBA (alpha = 0)
@@ -87,10 +88,14 @@ inline bool WriteTestTiff(const fs::path& path, const TiffSpec& spec) {
   if (tif == nullptr) return false;
   const bool is_float = spec.bits == 32;
   TIFFSetField(tif, TIFFTAG_IMAGEWIDTH, static_cast<std::uint32_t>(spec.width));
-  TIFFSetField(tif, TIFFTAG_IMAGELENGTH, static_cast<std::uint32_t>(spec.height));
-  TIFFSetField(tif, TIFFTAG_BITSPERSAMPLE, static_cast<std::uint16_t>(spec.bits));
-  TIFFSetField(tif, TIFFTAG_SAMPLESPERPIXEL, static_cast<std::uint16_t>(spec.samples));
-  TIFFSetField(tif, TIFFTAG_SAMPLEFORMAT, is_float ? SAMPLEFORMAT_IEEEFP : SAMPLEFORMAT_UINT);
+  TIFFSetField(tif, TIFFTAG_IMAGELENGTH,
+               static_cast<std::uint32_t>(spec.height));
+  TIFFSetField(tif, TIFFTAG_BITSPERSAMPLE,
+               static_cast<std::uint16_t>(spec.bits));
+  TIFFSetField(tif, TIFFTAG_SAMPLESPERPIXEL,
+               static_cast<std::uint16_t>(spec.samples));
+  TIFFSetField(tif, TIFFTAG_SAMPLEFORMAT,
+               is_float ? SAMPLEFORMAT_IEEEFP : SAMPLEFORMAT_UINT);
   TIFFSetField(tif, TIFFTAG_PHOTOMETRIC, spec.photometric);
   TIFFSetField(tif, TIFFTAG_PLANARCONFIG,
                spec.separate ? PLANARCONFIG_SEPARATE : PLANARCONFIG_CONTIG);
@@ -102,7 +107,8 @@ inline bool WriteTestTiff(const fs::path& path, const TiffSpec& spec) {
   const int bytes = spec.bits / 8;
   const int planes = spec.separate ? spec.samples : 1;
   const int per_pixel = spec.separate ? 1 : spec.samples;
-  const auto put = [&](std::vector<std::uint8_t>& buf, std::size_t index, double v) {
+  const auto put = [&](std::vector<std::uint8_t>& buf, std::size_t index,
+                       double v) {
     if (spec.bits == 8) {
       buf[index] = static_cast<std::uint8_t>(v);
     } else if (spec.bits == 16) {
@@ -116,8 +122,10 @@ inline bool WriteTestTiff(const fs::path& path, const TiffSpec& spec) {
   bool ok = true;
   if (spec.tiled) {
     TIFFSetField(tif, TIFFTAG_TILEWIDTH, static_cast<std::uint32_t>(spec.tile));
-    TIFFSetField(tif, TIFFTAG_TILELENGTH, static_cast<std::uint32_t>(spec.tile));
-    std::vector<std::uint8_t> buf(static_cast<std::size_t>(spec.tile * spec.tile * per_pixel * bytes));
+    TIFFSetField(tif, TIFFTAG_TILELENGTH,
+                 static_cast<std::uint32_t>(spec.tile));
+    std::vector<std::uint8_t> buf(
+        static_cast<std::size_t>(spec.tile * spec.tile * per_pixel * bytes));
     for (int p = 0; p < planes; ++p) {
       for (int y0 = 0; y0 < spec.height; y0 += spec.tile) {
         for (int x0 = 0; x0 < spec.width; x0 += spec.tile) {
@@ -129,23 +137,30 @@ inline bool WriteTestTiff(const fs::path& path, const TiffSpec& spec) {
                 const int y = y0 + r;
                 const int ch = spec.separate ? p : c;
                 // Padding of edge tiles gets a value far from the pattern.
-                const double v = (x < spec.width && y < spec.height)
-                                     ? (ch == 3 ? 0.0 : Pattern(x, y, ch, spec.bits))
-                                     : (spec.bits == 32 ? 1e6 : (spec.bits == 8 ? 255 : 65535));
-                put(buf, static_cast<std::size_t>((r * spec.tile + q) * per_pixel + c), v);
+                const double v =
+                    (x < spec.width && y < spec.height)
+                        ? (ch == 3 ? 0.0 : Pattern(x, y, ch, spec.bits))
+                        : (spec.bits == 32 ? 1e6
+                                           : (spec.bits == 8 ? 255 : 65535));
+                put(buf,
+                    static_cast<std::size_t>((r * spec.tile + q) * per_pixel +
+                                             c),
+                    v);
               }
             }
           }
-          const std::uint32_t tile = TIFFComputeTile(tif, static_cast<std::uint32_t>(x0),
-                                                     static_cast<std::uint32_t>(y0), 0,
-                                                     static_cast<std::uint16_t>(p));
-          ok = ok && TIFFWriteEncodedTile(tif, tile, buf.data(),
-                                          static_cast<tmsize_t>(buf.size())) >= 0;
+          const std::uint32_t tile = TIFFComputeTile(
+              tif, static_cast<std::uint32_t>(x0),
+              static_cast<std::uint32_t>(y0), 0, static_cast<std::uint16_t>(p));
+          ok = ok &&
+               TIFFWriteEncodedTile(tif, tile, buf.data(),
+                                    static_cast<tmsize_t>(buf.size())) >= 0;
         }
       }
     }
   } else {
-    TIFFSetField(tif, TIFFTAG_ROWSPERSTRIP, static_cast<std::uint32_t>(spec.rows_per_strip));
+    TIFFSetField(tif, TIFFTAG_ROWSPERSTRIP,
+                 static_cast<std::uint32_t>(spec.rows_per_strip));
     for (int p = 0; p < planes; ++p) {
       for (int y0 = 0; y0 < spec.height; y0 += spec.rows_per_strip) {
         const int rows = std::min(spec.rows_per_strip, spec.height - y0);
@@ -155,15 +170,20 @@ inline bool WriteTestTiff(const fs::path& path, const TiffSpec& spec) {
           for (int x = 0; x < spec.width; ++x) {
             for (int c = 0; c < per_pixel; ++c) {
               const int ch = spec.separate ? p : c;
-              const double v = ch == 3 ? 0.0 : Pattern(x, y0 + r, ch, spec.bits);
-              put(buf, static_cast<std::size_t>((r * spec.width + x) * per_pixel + c), v);
+              const double v =
+                  ch == 3 ? 0.0 : Pattern(x, y0 + r, ch, spec.bits);
+              put(buf,
+                  static_cast<std::size_t>((r * spec.width + x) * per_pixel +
+                                           c),
+                  v);
             }
           }
         }
-        const std::uint32_t strip =
-            TIFFComputeStrip(tif, static_cast<std::uint32_t>(y0), static_cast<std::uint16_t>(p));
-        ok = ok && TIFFWriteEncodedStrip(tif, strip, buf.data(),
-                                         static_cast<tmsize_t>(buf.size())) >= 0;
+        const std::uint32_t strip = TIFFComputeStrip(
+            tif, static_cast<std::uint32_t>(y0), static_cast<std::uint16_t>(p));
+        ok =
+            ok && TIFFWriteEncodedStrip(tif, strip, buf.data(),
+                                        static_cast<tmsize_t>(buf.size())) >= 0;
       }
     }
   }
@@ -191,7 +211,8 @@ inline int RunPython(const fs::path& dir, const std::string& script) {
   const fs::path file = dir / "script.py";
   {
     std::ofstream out(file);
-    out << "import sys\ntry:\n    import numpy as np, tifffile\n    from PIL import Image\n"
+    out << "import sys\ntry:\n    import numpy as np, tifffile\n    from PIL "
+           "import Image\n"
            "except ImportError:\n    sys.exit(77)\n"
         << script;
   }

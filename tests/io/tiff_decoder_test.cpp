@@ -33,7 +33,8 @@ void ExpectPixels(const Image& image, const TiffSpec& spec) {
       if (spec.samples == 1) {
         ASSERT_EQ(got, want) << "x=" << x << " y=" << y;
       } else {
-        ASSERT_NEAR(got, want, 1e-6 * std::max(1.0, std::abs(want))) << "x=" << x << " y=" << y;
+        ASSERT_NEAR(got, want, 1e-6 * std::max(1.0, std::abs(want)))
+            << "x=" << x << " y=" << y;
       }
     }
   }
@@ -57,8 +58,10 @@ TEST(TiffDecoder, LayoutMatrixRoundTrips) {
             spec.separate = separate;
             spec.tiled = tiled;
             spec.compression = compression;
-            spec.photometric = samples >= 3 ? PHOTOMETRIC_RGB : PHOTOMETRIC_MINISBLACK;
-            const std::string name = "b" + std::to_string(bits) + "_s" + std::to_string(samples) +
+            spec.photometric =
+                samples >= 3 ? PHOTOMETRIC_RGB : PHOTOMETRIC_MINISBLACK;
+            const std::string name = "b" + std::to_string(bits) + "_s" +
+                                     std::to_string(samples) +
                                      (separate ? "_sep" : "_contig") +
                                      (tiled ? "_tiles" : "_strips") + "_c" +
                                      std::to_string(compression) + ".tif";
@@ -71,7 +74,9 @@ TEST(TiffDecoder, LayoutMatrixRoundTrips) {
             EXPECT_EQ(image.info.bit_depth, bits);
             EXPECT_EQ(image.info.channels, samples);
             EXPECT_EQ(image.info.is_float, bits == 32);
-            EXPECT_EQ(image.info.full_scale, bits == 8 ? 255.0 : bits == 16 ? 65535.0 : 1.0);
+            EXPECT_EQ(image.info.full_scale, bits == 8    ? 255.0
+                                             : bits == 16 ? 65535.0
+                                                          : 1.0);
             ExpectPixels(image, spec);
             ++count;
           }
@@ -164,7 +169,9 @@ Image.fromarray(pattern(0, 8)).convert('P').save(f'{d}/palette.tif')
   }
   static void TearDownTestSuite() { delete dir_; }
   void SetUp() override {
-    if (rc_ == 77) GTEST_SKIP() << "/usr/bin/python3 with numpy, tifffile and PIL not available";
+    if (rc_ == 77)
+      GTEST_SKIP()
+          << "/usr/bin/python3 with numpy, tifffile and PIL not available";
     ASSERT_EQ(rc_, 0) << "reference script failed";
   }
   static fs::path* dir_;
@@ -180,11 +187,13 @@ TEST_F(TifffileReference, DecodesIndependentFiles) {
     TiffSpec rgb = grey;
     rgb.samples = 3;
     const std::string b = std::to_string(bits);
-    for (const std::string& name : {"grey" + b, "grey" + b + "_zlib", "grey" + b + "_tiles"}) {
+    for (const std::string& name :
+         {"grey" + b, "grey" + b + "_zlib", "grey" + b + "_tiles"}) {
       SCOPED_TRACE(name);
       ExpectPixels(LoadImage(*dir_ / (name + ".tif")), grey);
     }
-    for (const std::string& name : {"rgb" + b, "rgb" + b + "_planar", "bigendian" + b}) {
+    for (const std::string& name :
+         {"rgb" + b, "rgb" + b + "_planar", "bigendian" + b}) {
       SCOPED_TRACE(name);
       const Image image = LoadImage(*dir_ / (name + ".tif"));
       EXPECT_EQ(image.info.channels, 3);
@@ -202,7 +211,8 @@ TEST_F(TifffileReference, RefusesUnsupportedSampleFormats) {
     } catch (const InputError& e) {
       const std::string what = e.what();
       EXPECT_NE(what.find(name), std::string::npos) << what;
-      EXPECT_NE(what.find("not supported") + what.find("unsupported"), 2 * std::string::npos)
+      EXPECT_NE(what.find("not supported") + what.find("unsupported"),
+                2 * std::string::npos)
           << what;
       EXPECT_EQ(what.find('\n'), std::string::npos) << what;
     }
@@ -210,7 +220,8 @@ TEST_F(TifffileReference, RefusesUnsupportedSampleFormats) {
 }
 
 TEST_F(TifffileReference, TruncatedDataIsRefused) {
-  for (const char* name : {"grey16.tif", "grey16_zlib.tif", "grey8_tiles.tif", "rgb32_planar.tif"}) {
+  for (const char* name : {"grey16.tif", "grey16_zlib.tif", "grey8_tiles.tif",
+                           "rgb32_planar.tif"}) {
     SCOPED_TRACE(name);
     const std::string bytes = io_test::ReadBytes(*dir_ / name);
     const fs::path cut = *dir_ / (std::string("cut_") + name);
@@ -223,7 +234,8 @@ TEST_F(TifffileReference, TruncatedDataIsRefused) {
     } catch (const InputError& e) {
       const std::string what = e.what();
       EXPECT_NE(what.find(cut.string()), std::string::npos) << what;
-      EXPECT_NE(what.find("truncated or corrupt TIFF"), std::string::npos) << what;
+      EXPECT_NE(what.find("truncated or corrupt TIFF"), std::string::npos)
+          << what;
     }
   }
 }
@@ -278,12 +290,14 @@ TEST(TiffDecoder, HugeHeaderRefusedFast) {
       ADD_FAILURE() << "accepted";
     } catch (const InputError& e) {
       const std::string what = e.what();
-      EXPECT_NE(what.find("huge.tif: image too large (200000 x 200000 pixels"), std::string::npos)
+      EXPECT_NE(what.find("huge.tif: image too large (200000 x 200000 pixels"),
+                std::string::npos)
           << what;
     }
   }
   const double seconds =
-      std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - start)
+          .count();
   EXPECT_LT(seconds, 0.5);
   // With the limit raised, the size passes but the data is not there.
   LoadOptions lax;
