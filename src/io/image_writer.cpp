@@ -39,7 +39,9 @@ OutFormat FormatFor(const fs::path& path) {
 }
 
 // Encodes an 8/16-bit (1 or 3 channel, BGR) or 32-bit float grey image as a
-// deflate-compressed TIFF in memory.
+// deflate-compressed TIFF in memory. Integer data uses the horizontal
+// differencing predictor; float data none (the floating-point predictor is
+// not decoded by every reader).
 std::string EncodeTiff(const fs::path& path, const cv::Mat& image) {
   const int depth = image.depth();
   const int channels = image.channels();
@@ -81,14 +83,18 @@ std::string EncodeTiff(const fs::path& path, const cv::Mat& image) {
       TIFFSetField(t, TIFFTAG_PLANARCONFIG, PLANARCONFIG_CONTIG) == 1 &&
       TIFFSetField(t, TIFFTAG_COMPRESSION, COMPRESSION_ADOBE_DEFLATE) == 1 &&
       TIFFSetField(t, TIFFTAG_PREDICTOR,
-                   is_float ? PREDICTOR_FLOATINGPOINT : PREDICTOR_HORIZONTAL) ==
-          1 &&
+                   is_float ? PREDICTOR_NONE : PREDICTOR_HORIZONTAL) == 1 &&
       TIFFSetField(t, TIFFTAG_ROWSPERSTRIP, rows_per_strip) == 1 &&
       TIFFSetField(t, TIFFTAG_SOFTWARE, software.c_str()) == 1;
   if (!ok) fail("cannot encode TIFF");
 
-  cv::Mat rgb = image;
-  if (channels == 3) cv::cvtColor(image, rgb, cv::COLOR_BGR2RGB);
+  // TIFF stores RGB; the caller's BGR image is left untouched.
+  cv::Mat rgb;
+  if (channels == 3) {
+    cv::cvtColor(image, rgb, cv::COLOR_BGR2RGB);
+  } else {
+    rgb = image;
+  }
   std::vector<std::uint8_t> strip(row_bytes * rows_per_strip);
   std::uint32_t index = 0;
   for (int y0 = 0; y0 < image.rows;
