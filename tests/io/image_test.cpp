@@ -48,8 +48,9 @@ void ExpectRefused(const fs::path& path, const std::string& fragment,
 class PilReference : public ::testing::Test {
  protected:
   static void SetUpTestSuite() {
-    dir_ = new fs::path(io_test::ScratchDir("pil_ref"));
-    rc_ = io_test::RunPython(*dir_, R"PY(
+    dir_ = new fs::path;
+    scratch_ = new fs::path(io_test::ScratchDir("pil_ref"));
+    rc_ = io_test::CachedPython("pil_ref", R"PY(
 import struct, zlib
 d = sys.argv[0].rsplit('/', 1)[0]
 h, w = 23, 37
@@ -85,9 +86,13 @@ raw = b''.join(b'\0' + rgb16[j].tobytes() for j in range(h))
 png = (b'\x89PNG\r\n\x1a\n' + chunk(b'IHDR', struct.pack('>IIBBBBB', w, h, 16, 2, 0, 0, 0)) +
        chunk(b'IDAT', zlib.compress(raw)) + chunk(b'IEND', b''))
 open(f'{d}/rgb16.png', 'wb').write(png)
-)PY");
+)PY",
+                                dir_);
   }
-  static void TearDownTestSuite() { delete dir_; }
+  static void TearDownTestSuite() {
+    delete dir_;
+    delete scratch_;
+  }
   void SetUp() override {
     if (rc_ == 77)
       GTEST_SKIP()
@@ -102,10 +107,12 @@ open(f'{d}/rgb16.png', 'wb').write(png)
                 std::min(bytes.size(), m.total() * sizeof(float)));
     return m;
   }
-  static fs::path* dir_;
+  static fs::path* dir_;      // reference files (shared, read-only)
+  static fs::path* scratch_;  // this process's own files
   static int rc_;
 };
 fs::path* PilReference::dir_ = nullptr;
+fs::path* PilReference::scratch_ = nullptr;
 int PilReference::rc_ = -1;
 
 TEST_F(PilReference, GreyPngAndBmpExact) {
@@ -202,7 +209,7 @@ TEST_F(PilReference, TruncatedFilesRefused) {
        {"rgb8.png", "grey16.png", "rgb8.jpg", "grey8.jpg", "rgb8.bmp"}) {
     SCOPED_TRACE(name);
     const std::string bytes = io_test::ReadBytes(*dir_ / name);
-    const fs::path cut = *dir_ / (std::string("cut_") + name);
+    const fs::path cut = *scratch_ / (std::string("cut_") + name);
     io_test::WriteBytes(cut, bytes.substr(0, bytes.size() * 2 / 3));
     try {
       LoadImage(cut);

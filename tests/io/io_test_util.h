@@ -6,6 +6,7 @@
 #include <gtest/gtest.h>
 #include <sys/wait.h>
 #include <tiffio.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <cmath>
@@ -16,15 +17,45 @@
 #include <fstream>
 #include <sstream>
 #include <string>
+#include <system_error>
 #include <vector>
+
+#include "core/sha256.h"
 
 namespace figura::io_test {
 
 namespace fs = std::filesystem;
 
-// A fresh, empty folder for one test under FIGURA_TEST_TMP.
+// Suffix that keeps scratch folders of concurrent test processes apart
+// (ctest runs each test in its own process, several at a time).
+inline std::string ProcessSuffix() { return "-" + std::to_string(::getpid()); }
+
+// Removes this process's scratch folders when the test program exits.
+struct ScratchCleanup {
+  ScratchCleanup() = default;
+  ScratchCleanup(const ScratchCleanup&) = delete;
+  ScratchCleanup& operator=(const ScratchCleanup&) = delete;
+  ~ScratchCleanup() {
+    std::error_code ec;
+    const fs::path root = fs::path(FIGURA_TEST_TMP) / "io";
+    const std::string suffix = ProcessSuffix();
+    for (const auto& e : fs::directory_iterator(root, ec)) {
+      const std::string name = e.path().filename().string();
+      if (name.size() > suffix.size() &&
+          name.compare(name.size() - suffix.size(), suffix.size(), suffix) ==
+              0) {
+        fs::remove_all(e.path(), ec);
+      }
+    }
+  }
+};
+inline ScratchCleanup g_scratch_cleanup;
+
+// A fresh, empty folder for one test under FIGURA_TEST_TMP, private to this
+// process.
 inline fs::path ScratchDir(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / "io" / name;
+  const fs::path dir =
+      fs::path(FIGURA_TEST_TMP) / "io" / (name + ProcessSuffix());
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
@@ -220,6 +251,29 @@ inline int RunPython(const fs::path& dir, const std::string& script) {
   const std::string cmd = "/usr/bin/python3 '" + file.string() + "'";
   const int rc = std::system(cmd.c_str());
   return WIFEXITED(rc) ? WEXITSTATUS(rc) : -1;
+}
+
+// Runs a reference-file script once per build tree: its output folder is
+// cached under FIGURA_TEST_TMP/io/cache/<name>-<hash of the script>, made
+// under a private name and renamed into place, so concurrent test processes
+// share one result. Tests must not write into `*dir`. Returns like
+// RunPython.
+inline int CachedPython(const std::string& name, const std::string& script,
+                        fs::path* dir) {
+  const fs::path cache = fs::path(FIGURA_TEST_TMP) / "io" / "cache";
+  *dir = cache / (name + "-" + Sha256Hex(script).substr(0, 16));
+  if (fs::exists(*dir / "done")) return 0;
+  fs::create_directories(cache);
+  const fs::path work = cache / (name + ".tmp" + ProcessSuffix());
+  fs::remove_all(work);
+  fs::create_directories(work);
+  const int rc = RunPython(
+      work, script + "\nopen(sys.argv[0].rsplit('/', 1)[0] + '/done', 'w')\n");
+  std::error_code ec;
+  if (rc == 0)
+    fs::rename(work, *dir, ec);  // fails harmlessly if another process won
+  fs::remove_all(work, ec);
+  return rc;
 }
 
 }  // namespace figura::io_test

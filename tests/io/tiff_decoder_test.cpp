@@ -141,8 +141,9 @@ TEST(TiffDecoder, FloatNanPassesThrough) {
 class TifffileReference : public ::testing::Test {
  protected:
   static void SetUpTestSuite() {
-    dir_ = new fs::path(io_test::ScratchDir("tifffile_ref"));
-    rc_ = io_test::RunPython(*dir_, R"PY(
+    dir_ = new fs::path;
+    scratch_ = new fs::path(io_test::ScratchDir("tifffile_ref"));
+    rc_ = io_test::CachedPython("tifffile_ref", R"PY(
 import os
 d = sys.argv[0].rsplit('/', 1)[0]
 h, w = 23, 37
@@ -165,19 +166,25 @@ for bits in (8, 16, 32):
 tifffile.imwrite(f'{d}/int16.tif', pattern(0, 16).astype(np.int16))
 tifffile.imwrite(f'{d}/float64.tif', pattern(0, 32).astype(np.float64))
 Image.fromarray(pattern(0, 8)).convert('P').save(f'{d}/palette.tif')
-)PY");
+)PY",
+                                dir_);
   }
-  static void TearDownTestSuite() { delete dir_; }
+  static void TearDownTestSuite() {
+    delete dir_;
+    delete scratch_;
+  }
   void SetUp() override {
     if (rc_ == 77)
       GTEST_SKIP()
           << "/usr/bin/python3 with numpy, tifffile and PIL not available";
     ASSERT_EQ(rc_, 0) << "reference script failed";
   }
-  static fs::path* dir_;
+  static fs::path* dir_;      // reference files (shared, read-only)
+  static fs::path* scratch_;  // this process's own files
   static int rc_;
 };
 fs::path* TifffileReference::dir_ = nullptr;
+fs::path* TifffileReference::scratch_ = nullptr;
 int TifffileReference::rc_ = -1;
 
 TEST_F(TifffileReference, DecodesIndependentFiles) {
@@ -224,7 +231,7 @@ TEST_F(TifffileReference, TruncatedDataIsRefused) {
                            "rgb32_planar.tif"}) {
     SCOPED_TRACE(name);
     const std::string bytes = io_test::ReadBytes(*dir_ / name);
-    const fs::path cut = *dir_ / (std::string("cut_") + name);
+    const fs::path cut = *scratch_ / (std::string("cut_") + name);
     io_test::WriteBytes(cut, bytes.substr(0, bytes.size() * 3 / 4));
     // The header still reads: the probe succeeds, the load fails.
     EXPECT_EQ(ProbeImage(cut).width, 37);
