@@ -1,0 +1,221 @@
+#include "fringe/aperture.h"
+
+#include <algorithm>
+#include <cassert>
+#include <cmath>
+#include <limits>
+#include <numbers>
+#include <opencv2/imgproc.hpp>
+#include <vector>
+
+#include "fringe/extremum.h"
+
+namespace figura {
+
+std::string ApertureOptions::Check() const {
+  if (working_size_px < 64)
+    return "aperture working size must be at least 64 pixels";
+  if (rays < 16) return "aperture detection needs at least 16 rays";
+  return {};
+}
+
+double SampleBilinear(const cv::Mat& image, double x, double y) {
+  assert(image.type() == CV_32FC1);
+  if (!(x >= 0.0 && y >= 0.0 && x <= image.cols - 1 && y <= image.rows - 1)) {
+    return std::numeric_limits<double>::quiet_NaN();
+  }
+  const int x0 =
+      std::min(static_cast<int>(x), image.cols - 2 < 0 ? 0 : image.cols - 2);
+  const int y0 =
+      std::min(static_cast<int>(y), image.rows - 2 < 0 ? 0 : image.rows - 2);
+  const int x1 = std::min(x0 + 1, image.cols - 1);
+  const int y1 = std::min(y0 + 1, image.rows - 1);
+  const double fx = x - x0;
+  const double fy = y - y0;
+  const float* row0 = image.ptr<float>(y0);
+  const float* row1 = image.ptr<float>(y1);
+  const double a = row0[x0];
+  const double b = row0[x1];
+  const double c = row1[x0];
+  const double d = row1[x1];
+  const double top = a + fx * (b - a);
+  const double bottom = c + fx * (d - c);
+  return top + fy * (bottom - top);
+}
+
+ApertureResult DetectAperture(const cv::Mat& image,
+                              const ApertureOptions& options) {
+  assert(image.type() == CV_32FC1);
+  ApertureResult result;
+  if (image.cols < 16 || image.rows < 16) {
+    result.message = "image too small for aperture detection";
+    return result;
+  }
+  // Working resolution.
+  const double factor =
+      std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
+                        options.working_size_px);
+  cv::Mat small;
+  if (factor > 1.0) {
+    cv::resize(
+        image, small,
+        cv::Size(
+            std::max(16, static_cast<int>(std::lround(image.cols / factor))),
+            std::max(16, static_cast<int>(std::lround(image.rows / factor)))),
+        0, 0, cv::INTER_AREA);
+  } else {
+    small = image.clone();
+  }
+  const double sx = static_cast<double>(image.cols) / small.cols;
+  const double sy = static_cast<double>(image.rows) / small.rows;
+
+  // Polarity: the part is taken to differ from the frame border; make it the
+  // bright side.
+  double border_sum = 0.0;
+  int border_count = 0;
+  for (int x = 0; x < small.cols; ++x) {
+    border_sum += static_cast<double>(small.at<float>(0, x));
+    border_sum += static_cast<double>(small.at<float>(small.rows - 1, x));
+    border_count += 2;
+  }
+  for (int y = 0; y < small.rows; ++y) {
+    border_sum += static_cast<double>(small.at<float>(y, 0));
+    border_sum += static_cast<double>(small.at<float>(y, small.cols - 1));
+    border_count += 2;
+  }
+  const double border_mean = border_sum / border_count;
+  const double overall_mean = cv::mean(small)[0];
+  if (border_mean > overall_mean) small = -small;
+
+  cv::GaussianBlur(small, small, cv::Size(), 1.0);
+  const int k = std::max(
+      3,
+      static_cast<int>(std::lround(0.02 * std::max(small.cols, small.rows))));
+  const cv::Mat disc = cv::getStructuringElement(
+      cv::MORPH_ELLIPSE, cv::Size(2 * k + 1, 2 * k + 1));
+  cv::Mat closed;
+  cv::morphologyEx(small, closed, cv::MORPH_CLOSE, disc);
+
+  double lo = 0.0;
+  double hi = 0.0;
+  cv::minMaxLoc(closed, &lo, &hi);
+  if (!(hi > lo)) {
+    result.message = "the image is uniform";
+    return result;
+  }
+  cv::Mat grey;
+  closed.convertTo(grey, CV_8U, 255.0 / (hi - lo), -lo * 255.0 / (hi - lo));
+  cv::Mat binary;
+  cv::threshold(grey, binary, 0, 255, cv::THRESH_BINARY | cv::THRESH_OTSU);
+
+  // Largest bright component, holes filled.
+  std::vector<std::vector<cv::Point>> contours;
+  cv::findContours(binary, contours, cv::RETR_EXTERNAL, cv::CHAIN_APPROX_NONE);
+  if (contours.empty()) {
+    result.message = "no bright part found";
+    return result;
+  }
+  std::size_t largest = 0;
+  double largest_area = 0.0;
+  for (std::size_t i = 0; i < contours.size(); ++i) {
+    const double area = cv::contourArea(contours[i]);
+    if (area > largest_area) {
+      largest_area = area;
+      largest = i;
+    }
+  }
+  const double frame_area = static_cast<double>(small.cols) * small.rows;
+  if (largest_area < 0.01 * frame_area || largest_area > 0.97 * frame_area) {
+    result.message =
+        "no part edge found (the fringes fill the frame or the part is too "
+        "small)";
+    return result;
+  }
+  cv::Mat filled = cv::Mat::zeros(small.size(), CV_8U);
+  cv::drawContours(filled, contours, static_cast<int>(largest), cv::Scalar(255),
+                   cv::FILLED);
+  const double inside_mean = cv::mean(closed, filled)[0];
+  cv::Mat outside_mask;
+  cv::bitwise_not(filled, outside_mask);
+  const double outside_mean = cv::mean(closed, outside_mask)[0];
+  if (!(inside_mean - outside_mean > 0.15 * (hi - lo))) {
+    result.message = "no part edge with enough contrast";
+    return result;
+  }
+
+  std::vector<cv::Point2d> coarse;
+  for (const auto& p : contours[largest]) {
+    if (p.x > 1 && p.y > 1 && p.x < small.cols - 2 && p.y < small.rows - 2) {
+      coarse.emplace_back(p.x, p.y);
+    }
+  }
+  const CircleFit coarse_fit = FitCircleRobust(coarse);
+  if (!coarse_fit.ok) {
+    result.message = "the part edge is not circular";
+    return result;
+  }
+
+  // Sub-pixel edge along rays: steepest descent of the closed image.
+  const Circle c0 = coarse_fit.circle;
+  constexpr double kStep = 0.25;
+  const double reach = std::max(6.0, 1.5 * k);
+  const int samples = static_cast<int>(2.0 * reach / kStep) + 1;
+  std::vector<double> profile(static_cast<std::size_t>(samples));
+  std::vector<cv::Point2d> edges;
+  edges.reserve(static_cast<std::size_t>(options.rays));
+  for (int ray = 0; ray < options.rays; ++ray) {
+    const double angle = 2.0 * std::numbers::pi * ray / options.rays;
+    const double ux = std::cos(angle);
+    const double uy = std::sin(angle);
+    bool inside = true;
+    for (int i = 0; i < samples; ++i) {
+      const double r = c0.radius - reach + i * kStep;
+      const double v =
+          SampleBilinear(closed, c0.centre.x + r * ux, c0.centre.y + r * uy);
+      if (std::isnan(v)) {
+        inside = false;
+        break;
+      }
+      profile[static_cast<std::size_t>(i)] = v;
+    }
+    if (!inside) continue;
+    int best = -1;
+    double best_slope = 0.0;
+    for (int i = 1; i + 1 < samples; ++i) {
+      const double slope = profile[static_cast<std::size_t>(i + 1)] -
+                           profile[static_cast<std::size_t>(i - 1)];
+      if (slope < best_slope) {
+        best_slope = slope;
+        best = i;
+      }
+    }
+    if (best < 2 || best > samples - 3) continue;
+    const auto slope_at = [&](int i) {
+      return profile[static_cast<std::size_t>(i + 1)] -
+             profile[static_cast<std::size_t>(i - 1)];
+    };
+    const double delta = ParabolaVertexOffset(
+        slope_at(best - 1), slope_at(best), slope_at(best + 1));
+    const double r = c0.radius - reach + (best + delta) * kStep;
+    // Back to full-resolution pixel coordinates.
+    const double x = (c0.centre.x + r * ux + 0.5) * sx - 0.5;
+    const double y = (c0.centre.y + r * uy + 0.5) * sy - 0.5;
+    edges.emplace_back(x, y);
+  }
+  if (static_cast<int>(edges.size()) < options.rays / 8) {
+    result.message = "too little of the part edge lies inside the image";
+    return result;
+  }
+  const CircleFit fit = FitCircleRobust(edges);
+  if (!fit.ok || fit.inliers < static_cast<int>(edges.size()) / 2) {
+    result.message = "the part edge is not circular";
+    return result;
+  }
+  result.ok = true;
+  result.circle = fit.circle;
+  result.rms_px = fit.rms_px;
+  result.edge_points = fit.inliers;
+  return result;
+}
+
+}  // namespace figura

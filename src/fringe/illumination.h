@@ -1,0 +1,46 @@
+// Illumination flattening: removes the slowly varying brightness (lamp
+// falloff, vignetting) and contrast of a fringe photograph, leaving fringes
+// of unit amplitude about zero.
+#pragma once
+
+#include <opencv2/core.hpp>
+#include <string>
+
+#include "fringe/circle.h"
+
+namespace figura {
+
+// Settings of FlattenIllumination.
+struct IlluminationOptions {
+  // Standard deviation (pixels) of the Gaussian that defines "slowly
+  // varying"; must be several fringe spacings (a few tenths of the aperture
+  // radius is typical).
+  double smoothing_px = 50.0;
+  // Working resolution: the envelopes are computed on an image reduced so
+  // that its larger side is at most this many pixels, then interpolated.
+  int working_size_px = 640;
+
+  // An empty string when usable, otherwise a readable reason.
+  [[nodiscard]] std::string Check() const;
+};
+
+// Flattened image and the envelopes it came from (all CV_32FC1, full size).
+struct FlattenedImage {
+  cv::Mat normalised;  // (I - mean) / amplitude; 0 outside the region
+  cv::Mat mean;        // local mean intensity
+  cv::Mat amplitude;   // local fringe amplitude sqrt(2 var) (cosine amplitude)
+};
+
+// Normalises fringes inside `region`: I_n = (I - m) / a with m the local
+// mean and a = sqrt(2 v) the local cosine amplitude, v the local variance,
+// both from masked, normalised Gaussian smoothing (normalised convolution,
+// Knutsson & Westin, CVPR 1993), so that pixels outside the region do not
+// leak in. [practice: (I - mean)/amplitude fringe normalisation]
+FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
+                                   const IlluminationOptions& options);
+
+// A CV_8UC1 mask (255 inside) of the pixels whose centres lie inside the
+// circle.
+cv::Mat CircleMask(cv::Size size, const Circle& circle);
+
+}  // namespace figura

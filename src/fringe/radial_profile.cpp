@@ -1,0 +1,146 @@
+#include "fringe/radial_profile.h"
+
+#include <algorithm>
+#include <cassert>
+#include <cmath>
+#include <mutex>
+#include <numbers>
+#include <opencv2/core/utility.hpp>
+
+namespace figura {
+
+SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
+                                        const Circle& region,
+                                        cv::Point2d centre,
+                                        double bin_width_px2, int sectors) {
+  assert(image.type() == CV_32FC1);
+  assert(bin_width_px2 > 0.0 && sectors >= 1);
+  SectorProfiles out;
+  out.centre = centre;
+  out.bin_width_px2 = bin_width_px2;
+  out.sectors = sectors;
+  const double far = cv::norm(region.centre - centre) + region.radius + 1.0;
+  out.bins = static_cast<int>(std::ceil(far * far / bin_width_px2)) + 1;
+  const std::size_t total =
+      static_cast<std::size_t>(sectors) * static_cast<std::size_t>(out.bins);
+  out.count.assign(total, 0.0);
+  out.sum.assign(total, 0.0);
+  out.sum_r2.assign(total, 0.0);
+  out.sum_angle.assign(total, 0.0);
+
+  const int y_begin =
+      std::max(0, static_cast<int>(std::ceil(region.centre.y - region.radius)));
+  const int y_end = std::min(
+      image.rows,
+      static_cast<int>(std::floor(region.centre.y + region.radius)) + 1);
+  if (y_end <= y_begin) return out;
+  const double r2_region = region.radius * region.radius;
+  const double sector_width = 2.0 * std::numbers::pi / sectors;
+  const double inverse_bin = 1.0 / bin_width_px2;
+  std::mutex merge;
+  const int stripes = std::clamp(cv::getNumThreads(), 1, 8);
+  cv::parallel_for_(
+      cv::Range(y_begin, y_end),
+      [&](const cv::Range& rows) {
+        std::vector<double> count(total, 0.0);
+        std::vector<double> sum(total, 0.0);
+        std::vector<double> sum_r2(total, 0.0);
+        std::vector<double> sum_angle(total, 0.0);
+        for (int y = rows.start; y < rows.end; ++y) {
+          const double dy_region = y - region.centre.y;
+          const double rest = r2_region - dy_region * dy_region;
+          if (rest < 0.0) continue;
+          const double half = std::sqrt(rest);
+          const int x0 =
+              std::max(0, static_cast<int>(std::ceil(region.centre.x - half)));
+          const int x1 =
+              std::min(image.cols - 1,
+                       static_cast<int>(std::floor(region.centre.x + half)));
+          const float* row = image.ptr<float>(y);
+          const double dy = y - centre.y;
+          for (int x = x0; x <= x1; ++x) {
+            const double dx = x - centre.x;
+            const double r2 = dx * dx + dy * dy;
+            const int bin = static_cast<int>(r2 * inverse_bin);
+            if (bin >= out.bins) continue;
+            // Azimuth in [0, 2 pi), shifted by half a sector so that sector
+            // k is centred on 2 pi k / S.
+            int sector = 0;
+            double offset = 0.0;
+            if (sectors > 1) {
+              double angle = std::atan2(dy, dx) + 0.5 * sector_width;
+              if (angle < 0.0) angle += 2.0 * std::numbers::pi;
+              sector =
+                  std::min(static_cast<int>(angle / sector_width), sectors - 1);
+              offset = angle - (sector + 0.5) * sector_width;
+            }
+            const std::size_t i =
+                static_cast<std::size_t>(sector) * out.bins + bin;
+            count[i] += 1.0;
+            sum[i] += static_cast<double>(row[x]);
+            sum_r2[i] += r2;
+            sum_angle[i] += offset;
+          }
+        }
+        const std::lock_guard<std::mutex> lock(merge);
+        for (std::size_t i = 0; i < total; ++i) {
+          if (count[i] == 0.0) continue;
+          out.count[i] += count[i];
+          out.sum[i] += sum[i];
+          out.sum_r2[i] += sum_r2[i];
+          out.sum_angle[i] += sum_angle[i];
+        }
+      },
+      stripes);
+  return out;
+}
+
+R2Profile ExtractProfile(const SectorProfiles& profiles, int sector) {
+  R2Profile out;
+  const int first = sector < 0 ? 0 : sector;
+  const int last = sector < 0 ? profiles.sectors - 1 : sector;
+  out.r2.reserve(static_cast<std::size_t>(profiles.bins));
+  out.value.reserve(static_cast<std::size_t>(profiles.bins));
+  out.weight.reserve(static_cast<std::size_t>(profiles.bins));
+  out.angle.reserve(static_cast<std::size_t>(profiles.bins));
+  for (int b = 0; b < profiles.bins; ++b) {
+    double count = 0.0;
+    double sum = 0.0;
+    double sum_r2 = 0.0;
+    double sum_angle = 0.0;
+    for (int k = first; k <= last; ++k) {
+      const std::size_t i = profiles.At(k, b);
+      count += profiles.count[i];
+      sum += profiles.sum[i];
+      sum_r2 += profiles.sum_r2[i];
+      sum_angle += profiles.sum_angle[i];
+    }
+    if (count <= 0.0) continue;
+    out.r2.push_back(sum_r2 / count);
+    out.value.push_back(sum / count);
+    out.weight.push_back(count);
+    out.angle.push_back(sum_angle / count);
+  }
+  return out;
+}
+
+void UniformMeanProfile(const SectorProfiles& profiles,
+                        std::vector<double>& value,
+                        std::vector<double>& weight) {
+  value.assign(static_cast<std::size_t>(profiles.bins), 0.0);
+  weight.assign(static_cast<std::size_t>(profiles.bins), 0.0);
+  for (int b = 0; b < profiles.bins; ++b) {
+    double count = 0.0;
+    double sum = 0.0;
+    for (int k = 0; k < profiles.sectors; ++k) {
+      count += profiles.count[profiles.At(k, b)];
+      sum += profiles.sum[profiles.At(k, b)];
+    }
+    if (count > 0.0) {
+      value[static_cast<std::size_t>(b)] = sum / count;
+      weight[static_cast<std::size_t>(b)] = count;
+    }
+  }
+}
+
+}  // namespace figura

@@ -1,0 +1,57 @@
+// Azimuthal and sector profiles about a centre, binned uniformly in r^2
+// (px^2), where Newton's fringes are periodic.
+#pragma once
+
+#include <opencv2/core.hpp>
+#include <span>
+#include <vector>
+
+#include "fringe/circle.h"
+
+namespace figura {
+
+// Pixel sums per (sector, r^2 bin). Sector k covers azimuths
+// [2 pi (k - 1/2) / S, 2 pi (k + 1/2) / S) about the centre, azimuth
+// atan2(y - cy, x - cx) (x right, y down); bin b covers r^2 in
+// [b w, (b + 1) w).
+struct SectorProfiles {
+  cv::Point2d centre;
+  double bin_width_px2 = 0.0;
+  int bins = 0;
+  int sectors = 0;
+  // Per (sector * bins + bin): pixel count, sum of values, sum of r^2, sum
+  // of the azimuth offset from the sector's mid azimuth (rad).
+  std::vector<double> count, sum, sum_r2, sum_angle;
+
+  // Index into the arrays.
+  [[nodiscard]] std::size_t At(int sector, int bin) const {
+    return static_cast<std::size_t>(sector) * static_cast<std::size_t>(bins) +
+           static_cast<std::size_t>(bin);
+  }
+};
+
+// One profile as arrays for fitting: mean r^2 (px^2), mean value and pixel
+// count of each non-empty bin, in increasing r^2; mean azimuth offset too.
+struct R2Profile {
+  std::vector<double> r2, value, weight, angle;
+};
+
+// Accumulates the pixels of `image` (CV_32FC1) whose centres lie inside
+// `region` into `sectors` azimuth sectors and bins of r^2 about `centre` of
+// width `bin_width_px2`. Runs in parallel over image rows (cv::parallel_for_).
+SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
+                                        const Circle& region,
+                                        cv::Point2d centre,
+                                        double bin_width_px2, int sectors);
+
+// The profile of one sector, or of all sectors together (sector = -1, the
+// azimuthal mean), with empty bins dropped.
+R2Profile ExtractProfile(const SectorProfiles& profiles, int sector);
+
+// The azimuthal-mean profile on the full uniform grid (value 0 and weight 0
+// in empty bins), for spectral analysis.
+void UniformMeanProfile(const SectorProfiles& profiles,
+                        std::vector<double>& value,
+                        std::vector<double>& weight);
+
+}  // namespace figura

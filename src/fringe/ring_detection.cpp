@@ -1,0 +1,516 @@
+#include "fringe/ring_detection.h"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <cmath>
+#include <cstdarg>
+#include <cstdio>
+#include <limits>
+#include <numbers>
+#include <opencv2/imgproc.hpp>
+#include <string>
+#include <vector>
+
+#include "fringe/aperture.h"
+#include "fringe/extremum.h"
+#include "fringe/illumination.h"
+#include "fringe/radial_profile.h"
+#include "fringe/ring_centre.h"
+
+namespace figura {
+
+std::string RingDetectionOptions::Check() const {
+  if (aperture_centre_px.has_value() != aperture_diameter_px.has_value()) {
+    return "the aperture needs both a centre and a diameter, or neither";
+  }
+  if (aperture_centre_px && (!std::isfinite(aperture_centre_px->x) ||
+                             !std::isfinite(aperture_centre_px->y))) {
+    return "the aperture centre must be finite";
+  }
+  if (aperture_diameter_px &&
+      !(*aperture_diameter_px > 0.0 && std::isfinite(*aperture_diameter_px))) {
+    return "the aperture diameter must be a positive number of pixels";
+  }
+  if (!(aperture_fraction > 0.0 && aperture_fraction <= 1.0)) {
+    return "the aperture fraction must lie in (0, 1]";
+  }
+  if (sectors < 4 || sectors > 720)
+    return "the number of sectors must lie between 4 and 720";
+  if (full_scale && !(std::isfinite(*full_scale) && *full_scale > 0.0)) {
+    return "the full-scale value must be a positive number";
+  }
+  return {};
+}
+
+namespace {
+
+constexpr double kTwoPi = 2.0 * std::numbers::pi;
+// Bins per fringe period in the sector profiles.
+constexpr int kBinsPerPeriod = 24;
+// Largest working size for the coarse steps (aperture, gradient centre).
+constexpr int kWorkingSize = 640;
+// Pixels used in the sharpness refinement at most.
+constexpr double kRefinementSamples = 400000.0;
+
+// printf-style formatting of a message.
+__attribute__((format(printf, 1, 2))) std::string Format(const char* format,
+                                                         ...) {
+  char buffer[512];
+  va_list arguments;
+  va_start(arguments, format);
+  std::vsnprintf(buffer, sizeof buffer, format, arguments);
+  va_end(arguments);
+  return buffer;
+}
+
+bool InsideImage(cv::Point2d p, const cv::Mat& image) {
+  return p.x >= -0.5 && p.y >= -0.5 && p.x <= image.cols - 0.5 &&
+         p.y <= image.rows - 0.5;
+}
+
+// Positions of numbered extrema of one profile.
+struct Located {
+  int index = 0;
+  double position = 0.0;
+  double sigma = 0.0;
+};
+
+// Locates the extrema of the azimuthal-mean profile expected at
+// s0 + i P / 2 and returns them.
+std::vector<Located> LocateMeanExtrema(const R2Profile& profile, double s0,
+                                       double period) {
+  std::vector<Located> out;
+  if (profile.r2.empty()) return out;
+  const double lo = profile.r2.front();
+  const double hi = profile.r2.back();
+  const double half = 0.5 * period;
+  const int i_first = static_cast<int>(std::ceil((lo + half - s0) / half));
+  const int i_last = static_cast<int>(std::floor((hi - half - s0) / half));
+  for (int i = i_first; i <= i_last; ++i) {
+    const double expected = s0 + i * half;
+    const bool dark = (i % 2) == 0;
+    const ExtremumFit fit = FitCosineExtremum(
+        profile.r2, profile.value, profile.weight, expected, period, dark);
+    if (!fit.ok || std::abs(fit.position - expected) > 0.25 * period) continue;
+    if (!(fit.sigma > 0.0) || fit.sigma > 0.125 * period) continue;
+    out.push_back({i, fit.position, fit.sigma});
+  }
+  return out;
+}
+
+// Weighted straight-line fit position = s0 + i * half; returns false with
+// fewer than 3 points.
+bool FitLadder(const std::vector<Located>& located, double& s0, double& half) {
+  if (located.size() < 3) return false;
+  Eigen::Matrix2d normal = Eigen::Matrix2d::Zero();
+  Eigen::Vector2d rhs = Eigen::Vector2d::Zero();
+  for (const auto& l : located) {
+    const double w = 1.0 / (l.sigma * l.sigma);
+    const Eigen::Vector2d row(1.0, l.index);
+    normal += w * row * row.transpose();
+    rhs += w * l.position * row;
+  }
+  if (std::abs(normal.determinant()) < 1e-300) return false;
+  const Eigen::Vector2d solution = normal.ldlt().solve(rhs);
+  s0 = solution(0);
+  half = solution(1);
+  return std::isfinite(s0) && half > 0.0;
+}
+
+// Everything found about one centre.
+struct Analysis {
+  std::string error;  // non-empty when the analysis failed
+  double period = 0.0;
+  double s0 = 0.0;
+  double fringes = 0.0;
+  std::vector<FringePoint> points;
+  int rejected = 0;
+};
+
+Analysis Failed(const std::string& message) {
+  Analysis out;
+  out.error = message;
+  return out;
+}
+
+std::vector<NumberedPoint> Numbered(const std::vector<FringePoint>& points) {
+  std::vector<NumberedPoint> out;
+  out.reserve(points.size());
+  for (const auto& p : points)
+    out.push_back({p.x_px, p.y_px, std::max(p.sigma_px, 1e-4), p.index});
+  return out;
+}
+
+// Sector profiles, mean-profile numbering and sector points about `centre`.
+Analysis AnalyseAbout(const cv::Mat& flat, const Circle& region,
+                      cv::Point2d centre, double period, int sector_count) {
+  Analysis out;
+  // 7. Sector profiles about the refined centre.
+  const SectorProfiles sectors = AccumulateSectorProfiles(
+      flat, region, centre, period / kBinsPerPeriod, sector_count);
+  const R2Profile mean = ExtractProfile(sectors, -1);
+  if (mean.r2.size() < 2 * kBinsPerPeriod) {
+    return Failed(
+        "too few rings: less than 2 fringes within the evaluated aperture (3 "
+        "needed)");
+  }
+  double fringes = (mean.r2.back() - mean.r2.front()) / period;
+  if (fringes < 3.0) {
+    return Failed(Format(
+        "too few rings: %.1f fringes within the evaluated aperture (3 needed)",
+        fringes));
+  }
+
+  // 8. Phase of the mean profile, refined period, numbering.
+  double s0 = 0.0;
+  {
+    Eigen::Matrix3d normal = Eigen::Matrix3d::Zero();
+    Eigen::Vector3d rhs = Eigen::Vector3d::Zero();
+    for (std::size_t i = 0; i < mean.r2.size(); ++i) {
+      const double u = kTwoPi * mean.r2[i] / period;
+      const Eigen::Vector3d row(1.0, std::cos(u), std::sin(u));
+      normal += mean.weight[i] * row * row.transpose();
+      rhs += mean.weight[i] * mean.value[i] * row;
+    }
+    const Eigen::Vector3d c = normal.ldlt().solve(rhs);
+    s0 = std::atan2(-c(2), -c(1)) / kTwoPi *
+         period;  // a minimum of the fundamental
+  }
+  for (int pass = 0; pass < 3; ++pass) {
+    const std::vector<Located> located = LocateMeanExtrema(mean, s0, period);
+    double half = 0.5 * period;
+    if (!FitLadder(located, s0, half)) {
+      return Failed(
+          "too few rings: fewer than 3 fringes could be located in the mean "
+          "profile");
+    }
+    period = 2.0 * half;
+  }
+  // Number from the dark fringe nearest the centre: s0 in [-P/4, 3P/4).
+  s0 -= period * std::floor((s0 + 0.25 * period) / period);
+  fringes = (mean.r2.back() - mean.r2.front()) / period;
+
+  // 9. Fringe centres in every sector, tracked outward.
+  const double sector_width = kTwoPi / sector_count;
+  const double expected_window_pixels = 0.5 * sector_width * period;
+  int rejected = 0;
+  for (int k = 0; k < sector_count; ++k) {
+    const R2Profile profile = ExtractProfile(sectors, k);
+    if (profile.r2.size() < static_cast<std::size_t>(kBinsPerPeriod)) continue;
+    const double half = 0.5 * period;
+    const int i_first =
+        static_cast<int>(std::ceil((profile.r2.front() + half - s0) / half));
+    const int i_last =
+        static_cast<int>(std::floor((profile.r2.back() - half - s0) / half));
+    int accepted = 0;
+    double last_delta = 0.0;
+    double slope = 0.0;
+    int last_index = 0;
+    for (int i = std::max(i_first, 1); i <= i_last; ++i) {
+      double drift = last_delta + slope * (i - last_index);
+      drift = std::clamp(drift, last_delta - 0.125 * period,
+                         last_delta + 0.125 * period);
+      const double expected = s0 + i * half + (accepted > 0 ? drift : 0.0);
+      const bool dark = (i % 2) == 0;
+      const ExtremumFit fit = FitCosineExtremum(
+          profile.r2, profile.value, profile.weight, expected, period, dark);
+      if (!fit.ok || fit.weight_sum < 0.5 * expected_window_pixels ||
+          !(fit.sigma > 0.0) || fit.sigma > 0.125 * period ||
+          fit.amplitude < 0.1 || fit.position <= 0.0) {
+        continue;
+      }
+      if (std::abs(fit.position - expected) > 0.25 * period) {
+        ++rejected;
+        continue;
+      }
+      const double delta = fit.position - (s0 + i * half);
+      if (accepted > 0) slope = (delta - last_delta) / (i - last_index);
+      last_delta = delta;
+      last_index = i;
+      ++accepted;
+      // Mean azimuth of the pixels near the extremum.
+      double angle_sum = 0.0;
+      double angle_weight = 0.0;
+      for (std::size_t b = 0; b < profile.r2.size(); ++b) {
+        if (std::abs(profile.r2[b] - fit.position) <= 0.25 * period) {
+          angle_sum += profile.weight[b] * profile.angle[b];
+          angle_weight += profile.weight[b];
+        }
+      }
+      FringePoint point;
+      point.angle_rad = k * sector_width +
+                        (angle_weight > 0.0 ? angle_sum / angle_weight : 0.0);
+      if (point.angle_rad > std::numbers::pi) point.angle_rad -= kTwoPi;
+      point.radius_px = std::sqrt(fit.position);
+      point.sigma_px = fit.sigma / (2.0 * point.radius_px);
+      point.x_px = centre.x + point.radius_px * std::cos(point.angle_rad);
+      point.y_px = centre.y + point.radius_px * std::sin(point.angle_rad);
+      point.kind = dark ? FringeState::kDark : FringeState::kBright;
+      point.index = i;
+      point.sector = k;
+      out.points.push_back(point);
+    }
+  }
+  if (out.points.size() < 6) {
+    return Failed("too few fringe points could be located in the sectors");
+  }
+  out.period = period;
+  out.s0 = s0;
+  out.fringes = fringes;
+  out.rejected = rejected;
+  return out;
+}
+
+}  // namespace
+
+RingDetectionResult DetectRings(const cv::Mat& input,
+                                const RingDetectionOptions& options) {
+  if (const std::string why = options.Check(); !why.empty()) {
+    throw InputError("ring detection: " + why);
+  }
+  RingDetectionResult result;
+  result.sectors = options.sectors;
+  const auto fail = [&result](const std::string& message) {
+    result.status = Status::kError;
+    result.points.clear();
+    result.messages.push_back(message);
+    return result;
+  };
+  if (input.empty()) return fail("the image is empty");
+  if (input.channels() != 1)
+    return fail("ring detection needs a grey (single-channel) image");
+  cv::Mat image;
+  input.convertTo(image, CV_32F);
+  if (!cv::checkRange(image))
+    return fail("the image holds non-finite pixel values");
+  double lo = 0.0;
+  double hi = 0.0;
+  cv::minMaxLoc(image, &lo, &hi);
+  if (!(hi - lo > 1e-6 * std::max(std::abs(hi), std::abs(lo)))) {
+    return fail("no fringes: the image is uniform");
+  }
+
+  // 1. Clear aperture.
+  Circle aperture;
+  if (options.aperture_centre_px) {
+    aperture.centre = *options.aperture_centre_px;
+    aperture.radius = 0.5 * *options.aperture_diameter_px;
+    result.aperture_detected = false;
+  } else {
+    ApertureOptions aperture_options;
+    aperture_options.working_size_px = kWorkingSize;
+    const ApertureResult found = DetectAperture(image, aperture_options);
+    if (found.ok) {
+      aperture = found.circle;
+      result.aperture_detected = true;
+    } else {
+      aperture.centre =
+          cv::Point2d(0.5 * (image.cols - 1), 0.5 * (image.rows - 1));
+      aperture.radius = 0.5 * std::min(image.cols, image.rows) - 1.0;
+      result.messages.push_back(
+          "no part edge found (" + found.message +
+          "); evaluating the circle inscribed in the image");
+    }
+  }
+  Circle region{aperture.centre, aperture.radius * options.aperture_fraction};
+  result.aperture_centre_px = region.centre;
+  result.aperture_radius_px = region.radius;
+  const cv::Mat mask = CircleMask(image.size(), region);
+  const int inside = cv::countNonZero(mask);
+  if (region.radius < 16.0 || inside < 1000) {
+    return fail(
+        Format("the evaluated aperture (radius %.1f px) is too small or "
+               "outside the image",
+               region.radius));
+  }
+
+  // 2. Saturation.
+  const double full = options.full_scale.value_or(hi);
+  cv::Mat at_full = (image >= full * (1.0 - 1e-6)) & mask;
+  result.saturated_fraction =
+      static_cast<double>(cv::countNonZero(at_full)) / inside;
+  if (result.saturated_fraction > 0.5) {
+    return fail(
+        Format("saturated: %.0f %% of the aperture pixels are at full scale "
+               "(%g); reduce "
+               "the exposure",
+               100.0 * result.saturated_fraction, full));
+  }
+  if (result.saturated_fraction > 0.02) {
+    result.messages.push_back(
+        Format("%.1f %% of the aperture pixels are saturated; fringe positions "
+               "may be biased",
+               100.0 * result.saturated_fraction));
+  }
+
+  // 3. Flatten the illumination.
+  IlluminationOptions illumination;
+  illumination.smoothing_px = std::max(4.0, region.radius / 4.0);
+  illumination.working_size_px = kWorkingSize;
+  const FlattenedImage flat = FlattenIllumination(image, region, illumination);
+  {
+    cv::Scalar mean_level = cv::mean(flat.mean, mask);
+    cv::Scalar amplitude_level = cv::mean(flat.amplitude, mask);
+    if (!(amplitude_level[0] >
+          1e-5 * std::max(std::abs(mean_level[0]), 1e-30))) {
+      return fail("no fringes: the aperture is uniform");
+    }
+    // Visibility (Imax - Imin)/(Imax + Imin) = amplitude / mean, median
+    // over a sample of the aperture.
+    std::vector<double> ratios;
+    const int stride =
+        std::max(1, static_cast<int>(std::sqrt(inside / 20000.0)));
+    for (int y = 0; y < image.rows; y += stride) {
+      const auto* m = mask.ptr<unsigned char>(y);
+      const auto* mean_row = flat.mean.ptr<float>(y);
+      const auto* amp_row = flat.amplitude.ptr<float>(y);
+      for (int x = 0; x < image.cols; x += stride) {
+        if (m[x] != 0 && mean_row[x] > 0.0F)
+          ratios.push_back(amp_row[x] / mean_row[x]);
+      }
+    }
+    if (!ratios.empty()) {
+      auto middle =
+          ratios.begin() + static_cast<std::ptrdiff_t>(ratios.size() / 2);
+      std::nth_element(ratios.begin(), middle, ratios.end());
+      result.visibility = std::min(1.0, *middle);
+    }
+  }
+
+  // 4. First centre estimate from gradient lines, on a reduced image.
+  const double factor =
+      std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
+                        kWorkingSize);
+  cv::Mat small;
+  if (factor > 1.0) {
+    cv::resize(flat.normalised, small,
+               cv::Size(static_cast<int>(std::lround(image.cols / factor)),
+                        static_cast<int>(std::lround(image.rows / factor))),
+               0, 0, cv::INTER_AREA);
+  } else {
+    small = flat.normalised;
+  }
+  const double sx = static_cast<double>(image.cols) / small.cols;
+  const double sy = static_cast<double>(image.rows) / small.rows;
+  Circle small_region{cv::Point2d((region.centre.x + 0.5) / sx - 0.5,
+                                  (region.centre.y + 0.5) / sy - 0.5),
+                      region.radius / std::max(sx, sy)};
+  const GradientCentre gradient =
+      EstimateCentreFromGradients(small, small_region);
+  if (!gradient.ok) {
+    return fail(
+        "no ring centre: the fringes are straight or parallel (no closed "
+        "rings)");
+  }
+  if (gradient.spread_px > 0.05 * small_region.radius) {
+    return fail(
+        "no fringes: the intensity gradients do not point to a common centre "
+        "(noise only?)");
+  }
+  cv::Point2d centre((gradient.centre.x + 0.5) * sx - 0.5,
+                     (gradient.centre.y + 0.5) * sy - 0.5);
+  if (!InsideImage(centre, image)) {
+    return fail(
+        Format("the ring centre (%.1f, %.1f) px lies outside the image (%.0f x "
+               "%.0f px); "
+               "re-centre the part or reduce the tilt of the test plate",
+               centre.x, centre.y, static_cast<double>(image.cols),
+               static_cast<double>(image.rows)));
+  }
+
+  // 5. Period in r^2 from the spectrum of the azimuthal mean profile.
+  const double far = cv::norm(region.centre - centre) + region.radius;
+  double period = 0.0;
+  {
+    const double bin = far * far / 4096.0;
+    const SectorProfiles coarse =
+        AccumulateSectorProfiles(flat.normalised, region, centre, bin, 1);
+    std::vector<double> value;
+    std::vector<double> weight;
+    UniformMeanProfile(coarse, value, weight);
+    const PeriodEstimate estimate =
+        EstimatePeriod(value, weight, bin, 8.0 * bin, far * far);
+    if (!estimate.ok || estimate.peak_ratio < 30.0) {
+      return fail(Format(
+          "no fringes: no periodic ring pattern in r^2 about (%.1f, %.1f) px",
+          centre.x, centre.y));
+    }
+    period = estimate.period;
+  }
+
+  // 6. Refine the centre: sharpest azimuthal-mean profile.
+  {
+    const int stride = std::max(
+        1,
+        static_cast<int>(std::floor(std::sqrt(inside / kRefinementSamples))));
+    const PixelSamples samples = SamplePixels(flat.normalised, region, stride);
+    const CentreRefinement refined = RefineCentreBySharpness(
+        samples, centre, period, std::max(1.0, factor), 0.02);
+    if (refined.ok) centre = refined.centre;
+  }
+  if (!InsideImage(centre, image)) {
+    return fail(
+        Format("the ring centre (%.1f, %.1f) px lies outside the image (%.0f x "
+               "%.0f px); "
+               "re-centre the part or reduce the tilt of the test plate",
+               centre.x, centre.y, static_cast<double>(image.cols),
+               static_cast<double>(image.rows)));
+  }
+  result.centre_px = centre;
+
+  // 7.-9. Profiles, numbering and sector points about the sharpest centre,
+  // then once more about the centre of circles through those points.
+  Analysis analysis =
+      AnalyseAbout(flat.normalised, region, centre, period, options.sectors);
+  if (!analysis.error.empty()) return fail(analysis.error);
+  ConcentricFit circles =
+      FitConcentricCircles(Numbered(analysis.points), centre);
+  const cv::Point2d sharpest = centre;
+  if (circles.ok && cv::norm(circles.centre - centre) < 3.0 &&
+      InsideImage(circles.centre, image)) {
+    Analysis second = AnalyseAbout(flat.normalised, region, circles.centre,
+                                   analysis.period, options.sectors);
+    if (second.error.empty()) {
+      centre = circles.centre;
+      analysis = std::move(second);
+      circles = FitConcentricCircles(Numbered(analysis.points), centre);
+    }
+  }
+  result.centre_px = centre;
+  result.period_r2_px2 = analysis.period;
+  result.first_dark_r2_px2 = analysis.s0;
+  result.centre_observed = analysis.s0 < 0.25 * analysis.period
+                               ? FringeState::kDark
+                               : FringeState::kBright;
+  result.fringes_in_aperture = analysis.fringes;
+  result.points = std::move(analysis.points);
+  if (analysis.rejected > 0) {
+    result.messages.push_back(
+        Format("%d sector fringe positions disagreed with their number by more "
+               "than a quarter "
+               "period and were dropped",
+               analysis.rejected));
+  }
+
+  // 10. Centre uncertainty: the statistical uncertainty of the concentric
+  // fit, widened by the disagreement with the independent sharpness centre.
+  const double disagreement = cv::norm(sharpest - centre);
+  if (circles.ok) {
+    result.centre_sigma_px =
+        std::hypot(circles.centre_sigma_px, disagreement / std::sqrt(2.0));
+    if (disagreement > std::max(0.5, 5.0 * circles.centre_sigma_px)) {
+      result.messages.push_back(
+          Format("the ring centre from the profile sharpness and from circles "
+                 "through the fringe "
+                 "points differ by %.2f px (non-circular fringes?)",
+                 disagreement));
+    }
+  } else {
+    result.centre_sigma_px = std::numeric_limits<double>::quiet_NaN();
+    result.messages.push_back("the centre uncertainty could not be estimated");
+  }
+  result.status = result.messages.empty() ? Status::kOk : Status::kWarning;
+  return result;
+}
+
+}  // namespace figura
