@@ -148,16 +148,16 @@ std::string Format(double value, int digits = 4) {
 
 }  // namespace
 
-Contact ParseContact(const std::string& text, const std::string& what) {
+RingContact ParseRingContact(const std::string& text, const std::string& what) {
   const std::string t(Trim(text));
-  if (t == "centre" || t == "center") return Contact::kCentre;
-  if (t == "edge") return Contact::kEdge;
+  if (t == "centre" || t == "center") return RingContact::kCentre;
+  if (t == "edge") return RingContact::kEdge;
   throw InputError((what.empty() ? std::string() : what + ": ") + "'" + text +
                    "' is not a contact; write centre or edge");
 }
 
-const char* ContactName(Contact contact) {
-  return contact == Contact::kCentre ? "centre" : "edge";
+const char* RingContactName(RingContact contact) {
+  return contact == RingContact::kCentre ? "centre" : "edge";
 }
 
 std::string RingFitOptions::Check() const {
@@ -211,8 +211,8 @@ double MinimumOffset(const MediaStack& stack, View view) {
 
 double PartRadiusFromFringes(double plate_radius_m, double diameter_m,
                              double fringes, double wavelength_m,
-                             double gap_index, Contact contact) {
-  const double sign = contact == Contact::kCentre ? 1.0 : -1.0;
+                             double gap_index, RingContact contact) {
+  const double sign = contact == RingContact::kCentre ? 1.0 : -1.0;
   const double gap_sag = sign * fringes * wavelength_m / (2.0 * gap_index);
   return PartRadiusFromSagDifference(plate_radius_m, diameter_m, gap_sag);
 }
@@ -246,7 +246,7 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   const double n_gap = options.stack.gap_index;
   const double k_fringe = 2.0 * n_gap / lambda;  // fringes per metre of gap
   const double pitch = options.pixel_pitch.metres;
-  const double sign = options.contact == Contact::kCentre ? 1.0 : -1.0;
+  const double sign = options.contact == RingContact::kCentre ? 1.0 : -1.0;
   const double d_offset = MinimumOffset(options.stack, options.view);
   // Internally the radius the part has when it matches the plate: the
   // plate's radius mirrored (sphere.h: a perfect match is R_plate = -R).
@@ -375,7 +375,7 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
     if (!(sign * a_now > 0.0)) {
       return fail(std::string("the fringe orders do not grow as the gap does "
                               "for contact at the ") +
-                  ContactName(options.contact) + " (check --contact)");
+                  RingContactName(options.contact) + " (check --contact)");
     }
     const double gap_radius =
         n_gap * pitch * pitch * scale * scale / (lambda * a_now);
