@@ -1,9 +1,11 @@
 #include "io/image_header.h"
 
+#include <algorithm>
 #include <array>
 #include <cassert>
 #include <climits>
 #include <cstring>
+#include <initializer_list>
 #include <vector>
 
 #include "core/error.h"
@@ -198,16 +200,18 @@ ImageFormat DetectImageFormat(const ByteSource& source) {
   const std::int64_t got = source.ReadAt(0, b.data(), b.size());
   if (got < 0) throw InputError(source.Name() + ": read error");
   const auto n = static_cast<std::size_t>(got);
-  const auto starts = [&](const char* sig, std::size_t len) {
-    return n >= len && std::memcmp(b.data(), sig, len) == 0;
+  const auto starts = [&](std::initializer_list<std::uint8_t> sig) {
+    return n >= sig.size() && std::equal(sig.begin(), sig.end(), b.begin());
   };
-  if (starts("II*\0", 4) || starts("MM\0*", 4) || starts("II+\0", 4) ||
-      starts("MM\0+", 4)) {
+  if (starts({'I', 'I', 42, 0}) || starts({'M', 'M', 0, 42}) ||
+      starts({'I', 'I', 43, 0}) || starts({'M', 'M', 0, 43})) {
     return ImageFormat::kTiff;
   }
-  if (starts("\x89PNG\r\n\x1a\n", 8)) return ImageFormat::kPng;
-  if (starts("\xFF\xD8\xFF", 3)) return ImageFormat::kJpeg;
-  if (starts("BM", 2)) return ImageFormat::kBmp;
+  if (starts({0x89, 'P', 'N', 'G', '\r', '\n', 0x1A, '\n'})) {
+    return ImageFormat::kPng;
+  }
+  if (starts({0xFF, 0xD8, 0xFF})) return ImageFormat::kJpeg;
+  if (starts({'B', 'M'})) return ImageFormat::kBmp;
   throw InputError(source.Name() + ": not a TIFF, PNG, JPEG or BMP image");
 }
 

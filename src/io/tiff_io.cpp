@@ -10,7 +10,9 @@ namespace {
 
 constexpr std::size_t kMaxWarnings = 8;
 
-std::string Format(const char* module, const char* fmt, va_list ap) {
+__attribute__((format(printf, 2, 0))) std::string Format(const char* module,
+                                                         const char* fmt,
+                                                         va_list ap) {
   std::array<char, 512> buf{};
   std::vsnprintf(buf.data(), buf.size(), fmt, ap);
   std::string text = buf.data();
@@ -19,16 +21,21 @@ std::string Format(const char* module, const char* fmt, va_list ap) {
   return text;
 }
 
-int OnError(TIFF* /*tif*/, void* user_data, const char* module, const char* fmt,
-            va_list ap) {
+__attribute__((format(printf, 4, 0))) int OnError(TIFF* /*tif*/,
+                                                  void* user_data,
+                                                  const char* module,
+                                                  const char* fmt, va_list ap) {
   auto* m = static_cast<TiffMessages*>(user_data);
   if (m != nullptr && m->first_error.empty())
     m->first_error = Format(module, fmt, ap);
   return 1;  // handled: do not call the global handlers
 }
 
-int OnWarning(TIFF* /*tif*/, void* user_data, const char* module,
-              const char* fmt, va_list ap) {
+__attribute__((format(printf, 4, 0))) int OnWarning(TIFF* /*tif*/,
+                                                    void* user_data,
+                                                    const char* module,
+                                                    const char* fmt,
+                                                    va_list ap) {
   auto* m = static_cast<TiffMessages*>(user_data);
   if (m != nullptr && m->warnings.size() < kMaxWarnings) {
     m->warnings.push_back(Format(module, fmt, ap));

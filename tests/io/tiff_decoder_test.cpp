@@ -29,7 +29,7 @@ void ExpectPixels(const Image& image, const TiffSpec& spec) {
   for (int y = 0; y < spec.height; ++y) {
     for (int x = 0; x < spec.width; ++x) {
       const double want = ExpectedGrey(spec, x, y);
-      const double got = image.pixels.at<float>(y, x);
+      const auto got = static_cast<double>(image.pixels.at<float>(y, x));
       if (spec.samples == 1) {
         ASSERT_EQ(got, want) << "x=" << x << " y=" << y;
       } else {
