@@ -35,11 +35,12 @@ cv::Mat CircleMask(cv::Size size, const Circle& circle) {
 
 namespace {
 
-// Masked Gaussian smoothing by normalised convolution.
-cv::Mat SmoothMasked(const cv::Mat& values, const cv::Mat& weight, double sigma,
+// Masked Gaussian smoothing by normalised convolution of values that are
+// already multiplied by their weight.
+cv::Mat SmoothMasked(const cv::Mat& weighted_values, double sigma,
                      const cv::Mat& smoothed_weight) {
-  cv::Mat product = values.mul(weight);
-  cv::GaussianBlur(product, product, cv::Size(), sigma, sigma,
+  cv::Mat product;
+  cv::GaussianBlur(weighted_values, product, cv::Size(), sigma, sigma,
                    cv::BORDER_CONSTANT);
   cv::Mat out;
   cv::divide(product, cv::max(smoothed_weight, 1e-6), out);
@@ -51,54 +52,56 @@ cv::Mat SmoothMasked(const cv::Mat& values, const cv::Mat& weight, double sigma,
 FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
                                    const IlluminationOptions& options) {
   assert(image.type() == CV_32FC1);
-  const double factor =
-      std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
-                        options.working_size_px);
-  cv::Mat small;
-  if (factor > 1.0) {
-    cv::resize(
-        image, small,
-        cv::Size(
-            std::max(8, static_cast<int>(std::lround(image.cols / factor))),
-            std::max(8, static_cast<int>(std::lround(image.rows / factor)))),
-        0, 0, cv::INTER_AREA);
-  } else {
-    small = image;
-  }
-  const double sx = static_cast<double>(small.cols) / image.cols;
-  const double sy = static_cast<double>(small.rows) / image.rows;
-  Circle small_region;
-  small_region.centre = cv::Point2d((region.centre.x + 0.5) * sx - 0.5,
-                                    (region.centre.y + 0.5) * sy - 0.5);
-  small_region.radius = region.radius * std::min(sx, sy);
-  cv::Mat weight;
-  CircleMask(small.size(), small_region).convertTo(weight, CV_32F, 1.0 / 255.0);
-  const double sigma = std::max(1.0, options.smoothing_px * std::min(sx, sy));
+  // The envelopes are smooth on the scale smoothing_px: a reduction that
+  // leaves about 6 reduced pixels per sigma loses nothing.
+  const double by_sigma = options.smoothing_px / 6.0;
+  const double by_size = static_cast<double>(std::max(image.cols, image.rows)) /
+                         options.working_size_px;
+  const double factor = std::max(1.0, std::max(by_sigma, by_size));
+  const cv::Size small_size(
+      std::max(8, static_cast<int>(std::lround(image.cols / factor))),
+      std::max(8, static_cast<int>(std::lround(image.rows / factor))));
+  const bool reduce = small_size != image.size();
+  const auto shrink = [&](const cv::Mat& full) {
+    if (!reduce) return full;
+    cv::Mat out;
+    cv::resize(full, out, small_size, 0, 0, cv::INTER_AREA);
+    return out;
+  };
+  const auto grow = [&](const cv::Mat& small) {
+    if (!reduce) return small;
+    cv::Mat out;
+    cv::resize(small, out, image.size(), 0, 0, cv::INTER_LINEAR);
+    return out;
+  };
+  const cv::Mat full_mask = CircleMask(image.size(), region);
+  cv::Mat full_weight;
+  full_mask.convertTo(full_weight, CV_32F, 1.0 / 255.0);
+  // Area-averaged weights: fractional at the region's edge.
+  const cv::Mat weight = shrink(full_weight);
+  const double sigma =
+      std::max(1.0, options.smoothing_px *
+                        static_cast<double>(small_size.width) / image.cols);
   cv::Mat smoothed_weight;
   cv::GaussianBlur(weight, smoothed_weight, cv::Size(), sigma, sigma,
                    cv::BORDER_CONSTANT);
-  const cv::Mat mean = SmoothMasked(small, weight, sigma, smoothed_weight);
-  cv::Mat deviation = small - mean;
-  cv::Mat squared = deviation.mul(deviation);
-  cv::Mat variance = SmoothMasked(squared, weight, sigma, smoothed_weight);
+  // Area averaging of I w and of (I - m)^2 w keeps the mean and the fringe
+  // power even where fringes are finer than a reduced pixel.
+  FlattenedImage out;
+  out.mean = grow(
+      SmoothMasked(shrink(image.mul(full_weight)), sigma, smoothed_weight));
+  cv::Mat deviation = image - out.mean;
+  cv::Mat power = deviation.mul(deviation).mul(full_weight);
+  const cv::Mat variance = SmoothMasked(shrink(power), sigma, smoothed_weight);
   cv::Mat amplitude;
   cv::sqrt(cv::max(2.0 * variance, 0.0), amplitude);
-
-  FlattenedImage out;
-  if (factor > 1.0) {
-    cv::resize(mean, out.mean, image.size(), 0, 0, cv::INTER_LINEAR);
-    cv::resize(amplitude, out.amplitude, image.size(), 0, 0, cv::INTER_LINEAR);
-  } else {
-    out.mean = mean;
-    out.amplitude = amplitude;
-  }
+  out.amplitude = grow(amplitude);
   // Guard against division by a vanishing amplitude.
   double max_amplitude = 0.0;
   cv::minMaxLoc(out.amplitude, nullptr, &max_amplitude);
   const double floor = std::max(1e-12, 1e-6 * max_amplitude);
-  cv::Mat denominator = cv::max(out.amplitude, floor);
-  cv::divide(image - out.mean, denominator, out.normalised);
-  out.normalised.setTo(0.0F, CircleMask(image.size(), region) == 0);
+  cv::divide(deviation, cv::max(out.amplitude, floor), out.normalised);
+  out.normalised.setTo(0.0F, full_mask == 0);
   return out;
 }
 

@@ -16,8 +16,10 @@ struct IlluminationOptions {
   // varying"; must be several fringe spacings (a few tenths of the aperture
   // radius is typical).
   double smoothing_px = 50.0;
-  // Working resolution: the envelopes are computed on an image reduced so
-  // that its larger side is at most this many pixels, then interpolated.
+  // Working resolution: the envelopes are computed on an image reduced
+  // (area averaging) so that its larger side is at most this many pixels,
+  // or coarser (about 6 reduced pixels per smoothing sigma), then
+  // interpolated back.
   int working_size_px = 640;
 
   // An empty string when usable, otherwise a readable reason.

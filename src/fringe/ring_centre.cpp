@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cassert>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <numbers>
 #include <opencv2/imgproc.hpp>
@@ -69,7 +70,10 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
   std::vector<double> robust(lines.size(), 1.0);
   cv::Point2d centre = region.centre;
   double scale = 0.0;
-  for (int iteration = 0; iteration < 8; ++iteration) {
+  double previous_scale = std::numeric_limits<double>::infinity();
+  double total_weight = 0.0;
+  for (const auto& line : lines) total_weight += line.w;
+  for (int iteration = 0; iteration < 20; ++iteration) {
     Eigen::Matrix2d a = Eigen::Matrix2d::Zero();
     Eigen::Vector2d b = Eigen::Vector2d::Zero();
     for (std::size_t i = 0; i < lines.size(); ++i) {
@@ -89,19 +93,34 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
     centre = cv::Point2d(c(0), c(1));
     std::vector<double> distances;
     distances.reserve(lines.size());
-    for (const auto& line : lines) {
+    std::vector<double> kept_distances;
+    for (std::size_t i = 0; i < lines.size(); ++i) {
+      const Line& line = lines[i];
       distances.push_back(std::abs(line.nx * (centre.x - line.px) +
                                    line.ny * (centre.y - line.py)));
+      if (robust[i] > 0.0) kept_distances.push_back(distances.back());
     }
-    scale = std::max(1.4826 * Median(distances), 0.05);
+    // Annealed scale: the robust spread of the lines still kept, shrinking
+    // at most by half per pass, so that a majority of stray lines (fringes
+    // too fine for this resolution, noise) cannot pin the scale.
+    scale = std::max(1.4826 * Median(kept_distances), 0.05);
+    scale = std::max(scale, 0.5 * std::min(previous_scale, 1e300));
+    if (!std::isfinite(previous_scale))
+      scale = std::max(1.4826 * Median(distances), 0.05);
     const double cut = 4.685 * scale;
     int kept = 0;
+    double inlier_weight = 0.0;
     for (std::size_t i = 0; i < lines.size(); ++i) {
       const double u = distances[i] / cut;
       robust[i] = u < 1.0 ? (1.0 - u * u) * (1.0 - u * u) : 0.0;
       kept += u < 1.0 ? 1 : 0;
+      if (distances[i] < 2.0) inlier_weight += lines[i].w;
     }
     out.lines = kept;
+    out.inlier_fraction = inlier_weight / total_weight;
+    const bool settled = std::abs(scale - previous_scale) < 1e-3 * scale;
+    previous_scale = scale;
+    if (settled) break;
   }
   out.ok = std::isfinite(centre.x) && std::isfinite(centre.y);
   out.centre = centre;

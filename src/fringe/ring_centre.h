@@ -19,6 +19,9 @@ struct GradientCentre {
   double conditioning =
       0.0;        // smaller / larger eigenvalue of the normal matrix
   int lines = 0;  // gradient lines kept
+  // Fraction of the total gradient weight carried by lines passing within
+  // 2 px of the centre: near 0 for noise, large for rings.
+  double inlier_fraction = 0.0;
 };
 
 // Least-squares meeting point of the intensity-gradient lines: for pixels

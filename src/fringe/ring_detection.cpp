@@ -402,7 +402,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
         "no ring centre: the fringes are straight or parallel (no closed "
         "rings)");
   }
-  if (gradient.spread_px > 0.05 * small_region.radius) {
+  if (gradient.inlier_fraction < 0.05) {
     return fail(
         "no fringes: the intensity gradients do not point to a common centre "
         "(noise only?)");
