@@ -136,6 +136,58 @@ TEST(TiffDecoder, FloatNanPassesThrough) {
   EXPECT_EQ(image.info.full_scale, 1.0);
 }
 
+// JPEG-compressed TIFF in YCbCr (TIFF 6.0 with Technical Note 2): the
+// codec converts back to RGB, then Rec. 601 luma. Lossy: compared within a
+// few levels on a smooth image.
+TEST(TiffDecoder, JpegYCbCrTiff) {
+  const fs::path dir = io_test::ScratchDir("tiff_jpeg");
+  const fs::path path = dir / "ycbcr.tif";
+  constexpr int kW = 64;
+  constexpr int kH = 48;
+  const auto colour = [](int x, int y, int c) {
+    return c == 0 ? 2 * x + y : c == 1 ? 50 + x : 200 - 2 * y;
+  };
+  TIFF* tif = TIFFOpen(path.c_str(), "w");
+  ASSERT_NE(tif, nullptr);
+  TIFFSetField(tif, TIFFTAG_IMAGEWIDTH, kW);
+  TIFFSetField(tif, TIFFTAG_IMAGELENGTH, kH);
+  TIFFSetField(tif, TIFFTAG_BITSPERSAMPLE, 8);
+  TIFFSetField(tif, TIFFTAG_SAMPLESPERPIXEL, 3);
+  TIFFSetField(tif, TIFFTAG_PLANARCONFIG, PLANARCONFIG_CONTIG);
+  TIFFSetField(tif, TIFFTAG_COMPRESSION, COMPRESSION_JPEG);
+  TIFFSetField(tif, TIFFTAG_PHOTOMETRIC, PHOTOMETRIC_YCBCR);
+  TIFFSetField(tif, TIFFTAG_JPEGCOLORMODE, JPEGCOLORMODE_RGB);
+  TIFFSetField(tif, TIFFTAG_JPEGQUALITY, 95);
+  TIFFSetField(tif, TIFFTAG_ROWSPERSTRIP, 16);
+  std::vector<std::uint8_t> row(kW * 3);
+  for (int y = 0; y < kH; ++y) {
+    for (int x = 0; x < kW; ++x) {
+      for (int c = 0; c < 3; ++c)
+        row[x * 3 + c] = static_cast<std::uint8_t>(colour(x, y, c));
+    }
+    ASSERT_EQ(
+        TIFFWriteScanline(tif, row.data(), static_cast<std::uint32_t>(y), 0),
+        1);
+  }
+  TIFFClose(tif);
+  const Image image = LoadImage(path);
+  EXPECT_EQ(image.info.channels, 3);
+  double sum = 0.0;
+  double worst = 0.0;
+  for (int y = 0; y < kH; ++y) {
+    for (int x = 0; x < kW; ++x) {
+      const double want =
+          io_test::Rec601(colour(x, y, 0), colour(x, y, 1), colour(x, y, 2));
+      const double err =
+          std::abs(static_cast<double>(image.pixels.at<float>(y, x)) - want);
+      sum += err;
+      worst = std::max(worst, err);
+    }
+  }
+  EXPECT_LT(sum / (kW * kH), 1.5);
+  EXPECT_LT(worst, 6.0);
+}
+
 // Files written by tifffile (an independent TIFF writer): its IFD comes
 // before the data, so truncation hits the pixel data, not the header.
 class TifffileReference : public ::testing::Test {
