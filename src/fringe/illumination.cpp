@@ -3,7 +3,9 @@
 #include <algorithm>
 #include <cassert>
 #include <cmath>
+#include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
+#include <vector>
 
 namespace figura {
 
@@ -35,8 +37,8 @@ cv::Mat CircleMask(cv::Size size, const Circle& circle) {
 
 namespace {
 
-// Masked Gaussian smoothing by normalised convolution of values that are
-// already multiplied by their weight.
+// Normalised convolution: smooth(values) / smooth(weight), both already
+// weighted.
 cv::Mat SmoothMasked(const cv::Mat& weighted_values, double sigma,
                      const cv::Mat& smoothed_weight) {
   cv::Mat product;
@@ -47,61 +49,156 @@ cv::Mat SmoothMasked(const cv::Mat& weighted_values, double sigma,
   return out;
 }
 
+// Column range [x0, x1] of row y inside the circle (empty: x1 < x0).
+void RowSpan(const Circle& c, int y, int cols, int& x0, int& x1) {
+  const double dy = y - c.centre.y;
+  const double rest = c.radius * c.radius - dy * dy;
+  x0 = 0;
+  x1 = -1;
+  if (rest < 0.0) return;
+  const double half = std::sqrt(rest);
+  x0 = std::max(0, static_cast<int>(std::ceil(c.centre.x - half)));
+  x1 = std::min(cols - 1, static_cast<int>(std::floor(c.centre.x + half)));
+}
+
+// Bilinear lookup tables from full-resolution columns (or rows) into a
+// reduced map: index of the left sample and the weight of the right one.
+void Taps(int full, int reduced, int scale, std::vector<int>& index,
+          std::vector<float>& frac) {
+  index.resize(static_cast<std::size_t>(full));
+  frac.resize(static_cast<std::size_t>(full));
+  for (int i = 0; i < full; ++i) {
+    double u = (i + 0.5) / scale - 0.5;
+    u = std::clamp(u, 0.0, static_cast<double>(reduced - 1));
+    int k = std::min(static_cast<int>(u), std::max(0, reduced - 2));
+    index[static_cast<std::size_t>(i)] = k;
+    frac[static_cast<std::size_t>(i)] =
+        reduced > 1 ? static_cast<float>(u - k) : 0.0F;
+  }
+}
+
+// Bilinear value of a reduced map at a full-resolution pixel.
+inline float Lookup(const cv::Mat& map, int ky, float fy, int kx, float fx) {
+  const int ky1 = std::min(ky + 1, map.rows - 1);
+  const int kx1 = std::min(kx + 1, map.cols - 1);
+  const float* r0 = map.ptr<float>(ky);
+  const float* r1 = map.ptr<float>(ky1);
+  const float top = r0[kx] + fx * (r0[kx1] - r0[kx]);
+  const float bottom = r1[kx] + fx * (r1[kx1] - r1[kx]);
+  return top + fy * (bottom - top);
+}
+
 }  // namespace
 
 FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
                                    const IlluminationOptions& options) {
   assert(image.type() == CV_32FC1);
-  // The envelopes are smooth on the scale smoothing_px: a reduction that
-  // leaves about 6 reduced pixels per sigma loses nothing.
+  // The envelopes are smooth on the scale smoothing_px: blocks that leave
+  // about 6 reduced pixels per sigma lose nothing.
   const double by_sigma = options.smoothing_px / 6.0;
   const double by_size = static_cast<double>(std::max(image.cols, image.rows)) /
                          options.working_size_px;
-  const double factor = std::max(1.0, std::max(by_sigma, by_size));
-  const cv::Size small_size(
-      std::max(8, static_cast<int>(std::lround(image.cols / factor))),
-      std::max(8, static_cast<int>(std::lround(image.rows / factor))));
-  const bool reduce = small_size != image.size();
-  const auto shrink = [&](const cv::Mat& full) {
-    if (!reduce) return full;
-    cv::Mat out;
-    cv::resize(full, out, small_size, 0, 0, cv::INTER_AREA);
-    return out;
-  };
-  const auto grow = [&](const cv::Mat& small) {
-    if (!reduce) return small;
-    cv::Mat out;
-    cv::resize(small, out, image.size(), 0, 0, cv::INTER_LINEAR);
-    return out;
-  };
-  const cv::Mat full_mask = CircleMask(image.size(), region);
-  cv::Mat full_weight;
-  full_mask.convertTo(full_weight, CV_32F, 1.0 / 255.0);
-  // Area-averaged weights: fractional at the region's edge.
-  const cv::Mat weight = shrink(full_weight);
-  const double sigma =
-      std::max(1.0, options.smoothing_px *
-                        static_cast<double>(small_size.width) / image.cols);
+  const int scale =
+      std::max(1, static_cast<int>(std::floor(std::max(by_sigma, by_size))));
+  const int cols = (image.cols + scale - 1) / scale;
+  const int rows = (image.rows + scale - 1) / scale;
+  const double block = static_cast<double>(scale) * scale;
+
+  // Pass 1: block sums of I and of the inside count.
+  cv::Mat sum_i = cv::Mat::zeros(rows, cols, CV_32FC1);
+  cv::Mat weight = cv::Mat::zeros(rows, cols, CV_32FC1);
+  cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
+    std::vector<double> acc(static_cast<std::size_t>(cols));
+    std::vector<double> cnt(static_cast<std::size_t>(cols));
+    for (int by = range.start; by < range.end; ++by) {
+      std::fill(acc.begin(), acc.end(), 0.0);
+      std::fill(cnt.begin(), cnt.end(), 0.0);
+      for (int y = by * scale; y < std::min(image.rows, (by + 1) * scale);
+           ++y) {
+        int x0 = 0;
+        int x1 = -1;
+        RowSpan(region, y, image.cols, x0, x1);
+        const float* row = image.ptr<float>(y);
+        for (int x = x0; x <= x1; ++x) {
+          acc[static_cast<std::size_t>(x / scale)] +=
+              static_cast<double>(row[x]);
+          cnt[static_cast<std::size_t>(x / scale)] += 1.0;
+        }
+      }
+      float* s = sum_i.ptr<float>(by);
+      float* w = weight.ptr<float>(by);
+      for (int bx = 0; bx < cols; ++bx) {
+        s[bx] = static_cast<float>(acc[static_cast<std::size_t>(bx)] / block);
+        w[bx] = static_cast<float>(cnt[static_cast<std::size_t>(bx)] / block);
+      }
+    }
+  });
+  const double sigma = std::max(1.0, options.smoothing_px / scale);
   cv::Mat smoothed_weight;
   cv::GaussianBlur(weight, smoothed_weight, cv::Size(), sigma, sigma,
                    cv::BORDER_CONSTANT);
-  // Area averaging of I w and of (I - m)^2 w keeps the mean and the fringe
-  // power even where fringes are finer than a reduced pixel.
   FlattenedImage out;
-  out.mean = grow(
-      SmoothMasked(shrink(image.mul(full_weight)), sigma, smoothed_weight));
-  cv::Mat deviation = image - out.mean;
-  cv::Mat power = deviation.mul(deviation).mul(full_weight);
-  const cv::Mat variance = SmoothMasked(shrink(power), sigma, smoothed_weight);
-  cv::Mat amplitude;
-  cv::sqrt(cv::max(2.0 * variance, 0.0), amplitude);
-  out.amplitude = grow(amplitude);
-  // Guard against division by a vanishing amplitude.
+  out.scale = scale;
+  out.weight = weight;
+  out.mean = SmoothMasked(sum_i, sigma, smoothed_weight);
+
+  std::vector<int> kx;
+  std::vector<float> fx;
+  std::vector<int> ky;
+  std::vector<float> fy;
+  Taps(image.cols, cols, scale, kx, fx);
+  Taps(image.rows, rows, scale, ky, fy);
+
+  // Pass 2: block sums of (I - m)^2 inside.
+  cv::Mat power = cv::Mat::zeros(rows, cols, CV_32FC1);
+  cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
+    std::vector<double> acc(static_cast<std::size_t>(cols));
+    for (int by = range.start; by < range.end; ++by) {
+      std::fill(acc.begin(), acc.end(), 0.0);
+      for (int y = by * scale; y < std::min(image.rows, (by + 1) * scale);
+           ++y) {
+        int x0 = 0;
+        int x1 = -1;
+        RowSpan(region, y, image.cols, x0, x1);
+        const float* row = image.ptr<float>(y);
+        const auto yi = static_cast<std::size_t>(y);
+        for (int x = x0; x <= x1; ++x) {
+          const auto xi = static_cast<std::size_t>(x);
+          const double d = static_cast<double>(
+              row[x] - Lookup(out.mean, ky[yi], fy[yi], kx[xi], fx[xi]));
+          acc[static_cast<std::size_t>(x / scale)] += d * d;
+        }
+      }
+      float* p = power.ptr<float>(by);
+      for (int bx = 0; bx < cols; ++bx) {
+        p[bx] = static_cast<float>(acc[static_cast<std::size_t>(bx)] / block);
+      }
+    }
+  });
+  const cv::Mat variance = SmoothMasked(power, sigma, smoothed_weight);
+  cv::sqrt(cv::max(2.0 * variance, 0.0), out.amplitude);
   double max_amplitude = 0.0;
   cv::minMaxLoc(out.amplitude, nullptr, &max_amplitude);
-  const double floor = std::max(1e-12, 1e-6 * max_amplitude);
-  cv::divide(deviation, cv::max(out.amplitude, floor), out.normalised);
-  out.normalised.setTo(0.0F, full_mask == 0);
+  const float floor = static_cast<float>(std::max(1e-12, 1e-6 * max_amplitude));
+
+  // Pass 3: the normalised image.
+  out.normalised = cv::Mat::zeros(image.size(), CV_32FC1);
+  cv::parallel_for_(cv::Range(0, image.rows), [&](const cv::Range& range) {
+    for (int y = range.start; y < range.end; ++y) {
+      int x0 = 0;
+      int x1 = -1;
+      RowSpan(region, y, image.cols, x0, x1);
+      const float* row = image.ptr<float>(y);
+      float* dst = out.normalised.ptr<float>(y);
+      const auto yi = static_cast<std::size_t>(y);
+      for (int x = x0; x <= x1; ++x) {
+        const auto xi = static_cast<std::size_t>(x);
+        const float m = Lookup(out.mean, ky[yi], fy[yi], kx[xi], fx[xi]);
+        const float a = Lookup(out.amplitude, ky[yi], fy[yi], kx[xi], fx[xi]);
+        dst[x] = (row[x] - m) / std::max(a, floor);
+      }
+    }
+  });
   return out;
 }
 

@@ -26,18 +26,25 @@ struct IlluminationOptions {
   [[nodiscard]] std::string Check() const;
 };
 
-// Flattened image and the envelopes it came from (all CV_32FC1, full size).
+// Flattened image and the envelopes it came from.
 struct FlattenedImage {
-  cv::Mat normalised;  // (I - mean) / amplitude; 0 outside the region
-  cv::Mat mean;        // local mean intensity
-  cv::Mat amplitude;   // local fringe amplitude sqrt(2 var) (cosine amplitude)
+  cv::Mat normalised;  // CV_32FC1, full size: (I - m) / a; 0 outside the region
+  // Reduced maps (CV_32FC1): full-resolution pixel (x, y) corresponds to
+  // reduced position ((x + 0.5) / scale - 0.5, (y + 0.5) / scale - 0.5).
+  cv::Mat mean;  // local mean intensity m
+  cv::Mat
+      amplitude;   // local fringe amplitude a = sqrt(2 var) (cosine amplitude)
+  cv::Mat weight;  // fraction of each reduced pixel inside the region
+  int scale = 1;  // reduction factor (full-resolution pixels per reduced pixel)
 };
 
 // Normalises fringes inside `region`: I_n = (I - m) / a with m the local
 // mean and a = sqrt(2 v) the local cosine amplitude, v the local variance,
 // both from masked, normalised Gaussian smoothing (normalised convolution,
-// Knutsson & Westin, CVPR 1993), so that pixels outside the region do not
-// leak in. [practice: (I - mean)/amplitude fringe normalisation]
+// Knutsson & Westin, CVPR 1993) of block sums over the region's pixels, so
+// that pixels outside the region do not leak in and fringes finer than a
+// block keep their power. Three fused passes over the full image, parallel
+// over rows. [practice: (I - mean)/amplitude fringe normalisation]
 FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
                                    const IlluminationOptions& options);
 

@@ -315,8 +315,24 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   Circle region{aperture.centre, aperture.radius * options.aperture_fraction};
   result.aperture_centre_px = region.centre;
   result.aperture_radius_px = region.radius;
-  const cv::Mat mask = CircleMask(image.size(), region);
-  const int inside = cv::countNonZero(mask);
+  // Pixels inside the region, and those at full scale.
+  const double full = options.full_scale.value_or(hi);
+  const auto threshold = static_cast<float>(full * (1.0 - 1e-6));
+  int inside = 0;
+  int saturated = 0;
+  for (int y = 0; y < image.rows; ++y) {
+    const double dy = y - region.centre.y;
+    const double rest = region.radius * region.radius - dy * dy;
+    if (rest < 0.0) continue;
+    const double half = std::sqrt(rest);
+    const int x0 =
+        std::max(0, static_cast<int>(std::ceil(region.centre.x - half)));
+    const int x1 = std::min(
+        image.cols - 1, static_cast<int>(std::floor(region.centre.x + half)));
+    const float* row = image.ptr<float>(y);
+    for (int x = x0; x <= x1; ++x) saturated += row[x] >= threshold ? 1 : 0;
+    inside += std::max(0, x1 - x0 + 1);
+  }
   if (region.radius < 16.0 || inside < 1000) {
     return fail(
         Format("the evaluated aperture (radius %.1f px) is too small or "
@@ -325,10 +341,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   }
 
   // 2. Saturation.
-  const double full = options.full_scale.value_or(hi);
-  cv::Mat at_full = (image >= full * (1.0 - 1e-6)) & mask;
-  result.saturated_fraction =
-      static_cast<double>(cv::countNonZero(at_full)) / inside;
+  result.saturated_fraction = static_cast<double>(saturated) / inside;
   if (result.saturated_fraction > 0.5) {
     return fail(
         Format("saturated: %.0f %% of the aperture pixels are at full scale "
@@ -349,25 +362,26 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   illumination.working_size_px = kWorkingSize;
   const FlattenedImage flat = FlattenIllumination(image, region, illumination);
   {
-    cv::Scalar mean_level = cv::mean(flat.mean, mask);
-    cv::Scalar amplitude_level = cv::mean(flat.amplitude, mask);
-    if (!(amplitude_level[0] >
-          1e-5 * std::max(std::abs(mean_level[0]), 1e-30))) {
-      return fail("no fringes: the aperture is uniform");
-    }
-    // Visibility (Imax - Imin)/(Imax + Imin) = amplitude / mean, median
-    // over a sample of the aperture.
+    // Visibility (Imax - Imin)/(Imax + Imin) = amplitude / mean, median over
+    // the reduced pixels wholly inside the region.
     std::vector<double> ratios;
-    const int stride =
-        std::max(1, static_cast<int>(std::sqrt(inside / 20000.0)));
-    for (int y = 0; y < image.rows; y += stride) {
-      const auto* m = mask.ptr<unsigned char>(y);
+    double mean_sum = 0.0;
+    double amplitude_sum = 0.0;
+    for (int y = 0; y < flat.mean.rows; ++y) {
+      const auto* w = flat.weight.ptr<float>(y);
       const auto* mean_row = flat.mean.ptr<float>(y);
       const auto* amp_row = flat.amplitude.ptr<float>(y);
-      for (int x = 0; x < image.cols; x += stride) {
-        if (m[x] != 0 && mean_row[x] > 0.0F)
-          ratios.push_back(amp_row[x] / mean_row[x]);
+      for (int x = 0; x < flat.mean.cols; ++x) {
+        if (w[x] < 0.99F) continue;
+        mean_sum += std::abs(static_cast<double>(mean_row[x]));
+        amplitude_sum += static_cast<double>(amp_row[x]);
+        if (mean_row[x] > 0.0F) {
+          ratios.push_back(static_cast<double>(amp_row[x] / mean_row[x]));
+        }
       }
+    }
+    if (!(amplitude_sum > 1e-5 * std::max(mean_sum, 1e-30))) {
+      return fail("no fringes: the aperture is uniform");
     }
     if (!ratios.empty()) {
       auto middle =
