@@ -28,7 +28,11 @@ namespace fs = std::filesystem;
 
 // Suffix that keeps scratch folders of concurrent test processes apart
 // (ctest runs each test in its own process, several at a time).
-inline std::string ProcessSuffix() { return "-" + std::to_string(::getpid()); }
+inline std::string ProcessSuffix() {
+  std::string suffix(1, '-');
+  suffix += std::to_string(::getpid());
+  return suffix;
+}
 
 // Removes this process's scratch folders when the test program exits.
 struct ScratchCleanup {

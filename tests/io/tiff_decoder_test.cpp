@@ -113,6 +113,34 @@ TEST(TiffDecoder, StripHeights) {
   }
 }
 
+// BigTIFF (libtiff "w8" mode) is recognised by its "II+" signature; of a
+// multi-page file the first page is read.
+TEST(TiffDecoder, BigTiffAndFirstPage) {
+  const fs::path dir = io_test::ScratchDir("tiff_bigtiff");
+  TIFF* tif = TIFFOpen((dir / "big.tif").c_str(), "w8");
+  ASSERT_NE(tif, nullptr);
+  for (int page = 0; page < 2; ++page) {
+    TIFFSetField(tif, TIFFTAG_IMAGEWIDTH, 4U);
+    TIFFSetField(tif, TIFFTAG_IMAGELENGTH, 2U);
+    TIFFSetField(tif, TIFFTAG_BITSPERSAMPLE, 16);
+    TIFFSetField(tif, TIFFTAG_SAMPLESPERPIXEL, 1);
+    TIFFSetField(tif, TIFFTAG_PHOTOMETRIC, PHOTOMETRIC_MINISBLACK);
+    TIFFSetField(tif, TIFFTAG_ROWSPERSTRIP, 2U);
+    std::uint16_t data[8];
+    for (int i = 0; i < 8; ++i)
+      data[i] = static_cast<std::uint16_t>(1000 * (page + 1) + i);
+    ASSERT_GE(TIFFWriteEncodedStrip(tif, 0, data, sizeof data), 0);
+    ASSERT_EQ(TIFFWriteDirectory(tif), 1);
+  }
+  TIFFClose(tif);
+  EXPECT_EQ(io_test::ReadBytes(dir / "big.tif").substr(0, 4),
+            std::string("II+\0", 4));
+  const Image image = LoadImage(dir / "big.tif");
+  ASSERT_EQ(image.pixels.cols, 4);
+  EXPECT_EQ(image.pixels.at<float>(0, 0), 1000.0F);
+  EXPECT_EQ(image.pixels.at<float>(1, 3), 1007.0F);
+}
+
 // NaN in float data passes through (the analysis masks it).
 TEST(TiffDecoder, FloatNanPassesThrough) {
   const fs::path dir = io_test::ScratchDir("tiff_nan");
