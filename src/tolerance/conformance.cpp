@@ -2,14 +2,9 @@
 
 #include <cmath>
 
+#include "io/result_json.h"
+
 namespace figura {
-namespace {
-
-nlohmann::json Finite(double v) {
-  return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(nullptr);
-}
-
-}  // namespace
 
 ConformanceResult EvaluateConformance(const FormTolerance& tolerance,
                                       const FormMeasurement& measured,
@@ -18,7 +13,7 @@ ConformanceResult EvaluateConformance(const FormTolerance& tolerance,
   r.rule = options.rule;
   std::vector<Conformance> verdicts;
   for (const FormCharacteristic c : AllCharacteristics()) {
-    const ToleranceLimit& l = tolerance.limit(c);
+    const ToleranceLimit& l = tolerance.LimitOf(c);
     if (!l.toleranced) continue;
     const CharacteristicInfo& info = CharacteristicInfoOf(c);
     CharacteristicVerdict item;
@@ -60,13 +55,14 @@ nlohmann::json ConformanceJson(const ConformanceResult& result) {
          {"key", info.key},
          {"limit_nm", item.limit_nm},
          {"two_sided", item.two_sided},
-         {"value_nm", Finite(item.measured ? item.measured->value_nm : nan)},
-         {"u95_nm", Finite(item.measured ? item.measured->u95_nm : nan)},
+         {"value_nm",
+          FiniteOrNull(item.measured ? item.measured->value_nm : nan)},
+         {"u95_nm", FiniteOrNull(item.measured ? item.measured->u95_nm : nan)},
          {"verdict", ConformanceName(item.verdict.conformance)},
-         {"margin_nm", Finite(item.verdict.margin)},
-         {"guarded_margin_nm", Finite(item.verdict.guarded_margin)},
-         {"margin_fringes", Finite(item.margin_fringes)},
-         {"guarded_margin_fringes", Finite(item.guarded_margin_fringes)},
+         {"margin_nm", FiniteOrNull(item.verdict.margin)},
+         {"guarded_margin_nm", FiniteOrNull(item.verdict.guarded_margin)},
+         {"margin_fringes", FiniteOrNull(item.margin_fringes)},
+         {"guarded_margin_fringes", FiniteOrNull(item.guarded_margin_fringes)},
          {"reason", item.verdict.reason}});
   }
   return {{"decision_rule", DecisionRuleName(result.rule)},

@@ -87,7 +87,7 @@ class Parser {
   [[nodiscard]] bool LooksAt(std::string_view s) const {
     return text_.substr(pos_).substr(0, s.size()) == s;
   }
-  [[nodiscard]] std::size_t pos() const { return pos_; }
+  [[nodiscard]] std::size_t Pos() const { return pos_; }
   void Advance(std::size_t n) { pos_ += n; }
 
   // A short quote of what stands at the current position, for messages.
@@ -269,11 +269,11 @@ FormTolerance ParseFormTolerance(std::string_view text,
   // Code number "3/".
   p.SkipSpace();
   if (p.AtEnd())
-    p.Fail(p.pos(),
+    p.Fail(p.Pos(),
            "the text is empty; expected a form tolerance such as 3/2(0.5)");
   if (IsDigit(p.Peek()) && p.Peek(1) == '/') {
     if (p.Peek() != '3') {
-      p.Fail(p.pos(), std::string("code number ") + p.Peek() +
+      p.Fail(p.Pos(), std::string("code number ") + p.Peek() +
                           " is not a surface form tolerance; ISO 10110-5 form "
                           "tolerances start "
                           "with 3/");
@@ -283,11 +283,11 @@ FormTolerance ParseFormTolerance(std::string_view text,
     p.Advance(1);
     p.SkipSpace();
     if (p.Peek() != '/')
-      p.Fail(p.pos(),
+      p.Fail(p.Pos(),
              "expected '/' after the code number 3, found " + p.Here());
     p.Advance(1);
   } else {
-    p.Fail(p.pos(),
+    p.Fail(p.Pos(),
            "expected the code number '3/' (ISO 10110-5 surface form "
            "tolerance), found " +
                p.Here());
@@ -300,7 +300,7 @@ FormTolerance ParseFormTolerance(std::string_view text,
     Pending& s = slot(c);
     if (p.Peek() == '-' && !(IsDigit(p.Peek(1)) || p.Peek(1) == '.')) {
       s.dash = true;
-      s.value.begin = p.pos();
+      s.value.begin = p.Pos();
       p.Advance(1);
       return;
     }
@@ -312,11 +312,11 @@ FormTolerance ParseFormTolerance(std::string_view text,
   bool saw_parenthesis = false;
   if (p.Peek() == '(') {
     saw_parenthesis = true;
-    const std::size_t open = p.pos();
+    const std::size_t open = p.Pos();
     p.Advance(1);
     p.SkipSpace();
     if (p.Peek() == ')')
-      p.Fail(p.pos(), "empty parentheses: write B, B/C or a dash, e.g. 3/2(1)");
+      p.Fail(p.Pos(), "empty parentheses: write B, B/C or a dash, e.g. 3/2(1)");
     read_slot(FormCharacteristic::kIrregularity, "B (irregularity)");
     p.SkipSpace();
     if (p.Peek() == '/') {
@@ -327,7 +327,7 @@ FormTolerance ParseFormTolerance(std::string_view text,
     }
     if (p.AtEnd()) p.Fail(open, "unclosed parenthesis: missing ')'");
     if (p.Peek() != ')')
-      p.Fail(p.pos(), "expected ')' or '/', found " + p.Here());
+      p.Fail(p.Pos(), "expected ')' or '/', found " + p.Here());
     p.Advance(1);
   }
 
@@ -343,10 +343,10 @@ FormTolerance ParseFormTolerance(std::string_view text,
       p.SkipSpace();
       if (p.AtEnd()) break;  // a trailing ';' is harmless
     } else if (!first) {
-      p.Fail(p.pos(), "expected ';' between clauses, found " + p.Here());
+      p.Fail(p.Pos(), "expected ';' between clauses, found " + p.Here());
     }
     first = false;
-    const std::size_t key = p.pos();
+    const std::size_t key = p.Pos();
     if (p.LooksAt(kLambda) ||
         (text.size() - key >= 6 &&
          EqualsIgnoreCase(text.substr(key, 6), "lambda"))) {
@@ -354,7 +354,7 @@ FormTolerance ParseFormTolerance(std::string_view text,
       p.Advance(p.LooksAt(kLambda) ? kLambda.size() : 6);
       p.SkipSpace();
       if (p.Peek() != '=')
-        p.Fail(p.pos(),
+        p.Fail(p.Pos(),
                "expected '=' after the wavelength symbol, found " + p.Here());
       p.Advance(1);
       p.SkipSpace();
@@ -403,7 +403,7 @@ FormTolerance ParseFormTolerance(std::string_view text,
       } else if (p.Peek() == '<') {
         p.Advance(1);
       } else {
-        p.Fail(p.pos(), "expected '<' after " + symbol + ", found " + p.Here());
+        p.Fail(p.Pos(), "expected '<' after " + symbol + ", found " + p.Here());
       }
       p.SkipSpace();
       slot(c).value = p.ReadValue(symbol);
@@ -458,7 +458,7 @@ nlohmann::json FormToleranceJson(const FormTolerance& tolerance) {
   nlohmann::json limits = nlohmann::json::object();
   for (const FormCharacteristic c : kAll) {
     const CharacteristicInfo& info = CharacteristicInfoOf(c);
-    const ToleranceLimit& l = tolerance.limit(c);
+    const ToleranceLimit& l = tolerance.LimitOf(c);
     if (!l.toleranced) {
       limits[info.key] = nullptr;
       continue;

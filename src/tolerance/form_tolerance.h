@@ -93,7 +93,7 @@ struct FormTolerance {
   WavelengthOrigin wavelength_origin = WavelengthOrigin::kDefault;
 
   // The limit for `c`.
-  [[nodiscard]] const ToleranceLimit& limit(FormCharacteristic c) const {
+  [[nodiscard]] const ToleranceLimit& LimitOf(FormCharacteristic c) const {
     return limits.at(static_cast<std::size_t>(c));
   }
   // nm of surface per fringe: λ/2 (DIN ISO 10110-5:2016, abstract).
@@ -110,9 +110,9 @@ class ToleranceSyntaxError : public InputError {
   ToleranceSyntaxError(std::string_view text, int column,
                        const std::string& problem);
   // 1-based column (in characters, not bytes) of the problem.
-  [[nodiscard]] int column() const { return column_; }
+  [[nodiscard]] int Column() const { return column_; }
   // The problem without text and caret.
-  [[nodiscard]] const std::string& problem() const { return problem_; }
+  [[nodiscard]] const std::string& Problem() const { return problem_; }
 
  private:
   int column_;

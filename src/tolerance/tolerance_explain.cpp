@@ -54,7 +54,7 @@ std::string WavelengthLine(const FormTolerance& t,
 
 std::string LimitLine(const FormTolerance& t, FormCharacteristic c) {
   const CharacteristicInfo& info = CharacteristicInfoOf(c);
-  const ToleranceLimit& l = t.limit(c);
+  const ToleranceLimit& l = t.LimitOf(c);
   std::string head = std::string(info.symbol);
   head.resize(6, ' ');
   head += std::string(info.description) + ": ";
@@ -93,7 +93,7 @@ ToleranceResult ExplainTolerance(const ToleranceOptions& options) {
 
   bool fringes_written = false;
   for (const FormCharacteristic c : AllCharacteristics()) {
-    const ToleranceLimit& l = t.limit(c);
+    const ToleranceLimit& l = t.LimitOf(c);
     if (l.toleranced && !l.written_in_nm) fringes_written = true;
     if (l.toleranced && l.nm == 0.0) {
       r.status = Status::kWarning;
@@ -138,7 +138,7 @@ ToleranceResult ExplainTolerance(const ToleranceOptions& options) {
         << FormatValue(options.wavelength->value.nm())
         << " nm (one fringe = " << FormatValue(bench_nm_per_fringe) << " nm):";
     for (const FormCharacteristic c : AllCharacteristics()) {
-      const ToleranceLimit& l = t.limit(c);
+      const ToleranceLimit& l = t.LimitOf(c);
       if (!l.toleranced) continue;
       out << " " << CharacteristicInfoOf(c).symbol << " "
           << (CharacteristicInfoOf(c).two_sided ? "±" : "")
@@ -150,7 +150,7 @@ ToleranceResult ExplainTolerance(const ToleranceOptions& options) {
   for (const FormCharacteristic c :
        {FormCharacteristic::kRmsTotal, FormCharacteristic::kRmsIrregularity,
         FormCharacteristic::kRmsNonSymmetric}) {
-    if (t.limit(c).toleranced && !t.limit(c).written_in_nm)
+    if (t.LimitOf(c).toleranced && !t.LimitOf(c).written_in_nm)
       rms_in_fringes = true;
   }
   if (rms_in_fringes) {

@@ -10,7 +10,7 @@ namespace figura {
 namespace {
 
 const ToleranceLimit& L(const FormTolerance& t, FormCharacteristic c) {
-  return t.limit(c);
+  return t.LimitOf(c);
 }
 
 // DIN ISO 10110-5:2016, abstract: one fringe spacing is half the test
@@ -178,8 +178,8 @@ TEST(ParseFormTolerance, MalformedTextPointsAtTheColumn) {
       (void)ParseFormTolerance(r.text);
       ADD_FAILURE() << "no error";
     } catch (const ToleranceSyntaxError& e) {
-      EXPECT_EQ(e.column(), r.column) << e.what();
-      EXPECT_NE(e.problem().find(r.words), std::string::npos) << e.problem();
+      EXPECT_EQ(e.Column(), r.column) << e.what();
+      EXPECT_NE(e.Problem().find(r.words), std::string::npos) << e.Problem();
     }
   }
 }
