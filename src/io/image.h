@@ -44,9 +44,13 @@ struct Image {
   ImageInfo info;
 };
 
-// Loads an image. Throws InputError with one line naming the file and the
-// problem (missing, a directory, unreadable, unknown format, truncated, too
-// large, unsupported sample format).
+// Loads an image: the file is read once into memory and both the SHA-256 and
+// the pixels come from those bytes. TIFF: the first page; min-is-white grey
+// is inverted to full_scale - value; float NaN passes through. JPEG/PNG/BMP:
+// EXIF orientation is ignored (pixels as stored). Throws InputError with one
+// line naming the file and the problem (missing, a directory or other
+// non-regular file, unreadable, empty, unknown format, truncated or corrupt,
+// too large, unsupported sample format).
 Image LoadImage(const std::filesystem::path& path,
                 const LoadOptions& options = {});
 
