@@ -187,7 +187,7 @@ TEST(TiffDecoder, JpegYCbCrTiff) {
   TIFFSetField(tif, TIFFTAG_JPEGCOLORMODE, JPEGCOLORMODE_RGB);
   TIFFSetField(tif, TIFFTAG_JPEGQUALITY, 95);
   TIFFSetField(tif, TIFFTAG_ROWSPERSTRIP, 16);
-  std::vector<std::uint8_t> row(kW * 3);
+  std::vector<std::uint8_t> row(static_cast<std::size_t>(kW) * 3);
   for (int y = 0; y < kH; ++y) {
     for (int x = 0; x < kW; ++x) {
       for (int c = 0; c < 3; ++c)
