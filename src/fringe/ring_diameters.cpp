@@ -10,9 +10,7 @@
 namespace figura {
 namespace {
 
-// Internal length unit of the diameter fit: rings are placed on the x axis
-// in "pixels" of 1 um.
-constexpr double kUnitM = 1e-6;
+constexpr double kUnitM = kDiameterUnitM;
 
 std::vector<std::string_view> SplitCommas(std::string_view line) {
   std::vector<std::string_view> fields;
@@ -104,16 +102,11 @@ std::vector<RingDiameter> LoadRingDiameters(const std::filesystem::path& path) {
   return ParseRingDiameters(ReadTextFile(path), path.string());
 }
 
-RingFitResult FitRingDiameters(const std::vector<RingDiameter>& rings,
-                               const RingFitOptions& options) {
-  if (std::string why = options.Check(); !why.empty()) throw InputError(why);
-  RingFitOptions o = options;
-  o.pixel_pitch = Length::Metres(kUnitM);
-  o.pixel_pitch_u = Length::Metres(0.0);
-  o.point_sigmas_known = false;
-  const double d = MinimumOffset(options.stack, options.view);
+std::vector<RingFitPoint> DiameterFitPoints(
+    const std::vector<RingDiameter>& rings, const MediaStack& stack,
+    View view) {
+  const double d = MinimumOffset(stack, view);
   std::vector<RingFitPoint> points;
-  std::set<double> orders;
   int sector = 0;
   for (const RingDiameter& ring : rings) {
     RingFitPoint p;
@@ -122,9 +115,22 @@ RingFitResult FitRingDiameters(const std::vector<RingDiameter>& rings,
     p.sigma_px = 1.0;
     p.order = ring.order + d + (ring.kind == FringeState::kBright ? 0.5 : 0.0);
     p.sector = sector++;
-    orders.insert(p.order);
     points.push_back(p);
   }
+  return points;
+}
+
+RingFitResult FitRingDiameters(const std::vector<RingDiameter>& rings,
+                               const RingFitOptions& options) {
+  if (std::string why = options.Check(); !why.empty()) throw InputError(why);
+  RingFitOptions o = options;
+  o.pixel_pitch = Length::Metres(kUnitM);
+  o.pixel_pitch_u = Length::Metres(0.0);
+  o.point_sigmas_known = false;
+  const std::vector<RingFitPoint> points =
+      DiameterFitPoints(rings, options.stack, options.view);
+  std::set<double> orders;
+  for (const RingFitPoint& p : points) orders.insert(p.order);
   const RingModel model =
       orders.size() >= 2 ? RingModel::kIsotropic : RingModel::kNoOffset;
   RingFitResult fit = FitRings(points, o, cv::Point2d(0.0, 0.0), model);

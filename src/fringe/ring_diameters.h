@@ -40,6 +40,15 @@ std::vector<RingDiameter> ParseRingDiameters(std::string_view text,
 // Reads and parses a CSV file. Throws InputError naming the file.
 std::vector<RingDiameter> LoadRingDiameters(const std::filesystem::path& path);
 
+// Length unit of the fit points of the diameter mode: rings sit on the x
+// axis at x = D/2 in units of 1 um ("pixels" of 1 um), centre (0, 0).
+inline constexpr double kDiameterUnitM = 1e-6;
+
+// The fit input of the rings: order = m + d (+ 1/2 for bright), one sector
+// per row, equal radial weights.
+std::vector<RingFitPoint> DiameterFitPoints(
+    const std::vector<RingDiameter>& rings, const MediaStack& stack, View view);
+
 // Fits r^2 = (lambda R / n_gap)(m + e) (exact sag terms included) to the
 // rings: with three or more rings a weighted least-squares fit with R, e and
 // their uncertainties from the residual scatter; with two rings the
