@@ -1,0 +1,106 @@
+// End-to-end: `figura rings` on a simulated photograph (the simulator's
+// fixture gap file) and on a measured-diameter CSV (worked example of
+// ../shared/references.md); bad input gives one line and exit code 2.
+#include <gtest/gtest.h>
+
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <sstream>
+#include <string>
+
+namespace {
+
+namespace fs = std::filesystem;
+
+std::string Slurp(const fs::path& p) {
+  std::ifstream in(p);
+  std::stringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+int Figura(const std::string& args, const fs::path& dir, std::string* err) {
+  const std::string cmd = std::string(FIGURA_BINARY) + " " + args + " >" +
+                          (dir / "out.txt").string() + " 2>" +
+                          (dir / "err.txt").string();
+  const int status = std::system(cmd.c_str());
+  *err = Slurp(dir / "err.txt");
+  return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+}
+
+fs::path TempDir(const std::string& name) {
+  const fs::path dir = fs::path(FIGURA_TEST_TMP) / name;
+  fs::remove_all(dir);
+  fs::create_directories(dir);
+  return dir;
+}
+
+TEST(RingsE2e, SimulatedLensOnFlat) {
+  const fs::path dir = TempDir("rings_e2e_lens");
+  const fs::path gap = fs::path(FIGURA_SOURCE_DIR) /
+                       "tests/fixtures/sim/plano_convex_on_flat.ini";
+  std::string err;
+  ASSERT_EQ(Figura("simulate --gap '" + gap.string() + "' --out '" +
+                       (dir / "lens.tif").string() + "'",
+                   dir, &err),
+            0)
+      << err;
+  ASSERT_EQ(Figura("rings '" + (dir / "lens.tif").string() +
+                       "' --wavelength mercury-e --pixel-pitch 25um --json '" +
+                       (dir / "r.json").string() + "' --overlay '" +
+                       (dir / "o.png").string() + "' --plot '" +
+                       (dir / "p.svg").string() + "'",
+                   dir, &err),
+            0)
+      << err;
+  const auto truth =
+      nlohmann::json::parse(Slurp(dir / "lens.truth.json"))["truth"];
+  const auto r = nlohmann::json::parse(Slurp(dir / "r.json"));
+  const double expected = truth["part_radius_mm"].get<double>();
+  // Issue target: R within 0.05 % on a 16-bit photo with blur, noise and
+  // falloff; centre within 0.2 px.
+  EXPECT_NEAR(r["radius_of_curvature_mm"].get<double>() / expected, 1.0, 5e-4);
+  EXPECT_NEAR(r["fringe_centre_px"][0].get<double>(),
+              truth["fringe_centre_px"][0].get<double>(), 0.2);
+  EXPECT_NEAR(r["fringe_centre_px"][1].get<double>(),
+              truth["fringe_centre_px"][1].get<double>(), 0.2);
+  EXPECT_EQ(r["centre_fringe"], truth["centre_fringe"]);
+  EXPECT_EQ(r["coverage_factor"].get<double>(), 2.0);
+  EXPECT_TRUE(fs::exists(dir / "o.png"));
+  EXPECT_TRUE(fs::exists(dir / "p.svg"));
+}
+
+TEST(RingsE2e, DiameterModeWorkedExample) {
+  // lambda = 500 nm, 10th dark ring diameter 5.00 mm -> R = 1.25 m
+  // (references.md worked example).
+  const fs::path dir = TempDir("rings_e2e_diam");
+  std::ofstream(dir / "d.csv") << "order,diameter,kind\n10,5.00mm,dark\n";
+  std::string err;
+  ASSERT_EQ(Figura("rings --diameters '" + (dir / "d.csv").string() +
+                       "' --wavelength 500nm --json '" +
+                       (dir / "d.json").string() + "'",
+                   dir, &err),
+            0)
+      << err;
+  const auto r = nlohmann::json::parse(Slurp(dir / "d.json"));
+  EXPECT_NEAR(r["radius_of_curvature_mm"].get<double>(), 1250.0, 0.01);
+  EXPECT_TRUE(
+      r["radius_of_curvature_u95_mm"].is_null());  // one ring: no u, said why
+}
+
+TEST(RingsE2e, BadInputOneLineExit2) {
+  const fs::path dir = TempDir("rings_e2e_bad");
+  std::string err;
+  EXPECT_EQ(Figura("rings '" + (dir / "missing.tif").string() +
+                       "' --wavelength 546nm --pixel-pitch 10um",
+                   dir, &err),
+            2);
+  EXPECT_NE(err.find("missing.tif"), std::string::npos);
+  EXPECT_EQ(
+      Figura("rings x.tif --wavelength 546 --pixel-pitch 10um", dir, &err), 2);
+  EXPECT_NE(err.find("unit"), std::string::npos);
+}
+
+}  // namespace
