@@ -34,10 +34,10 @@ double SampleBilinear(const cv::Mat& image, double x, double y) {
   const double fy = y - y0;
   const float* row0 = image.ptr<float>(y0);
   const float* row1 = image.ptr<float>(y1);
-  const double a = row0[x0];
-  const double b = row0[x1];
-  const double c = row1[x0];
-  const double d = row1[x1];
+  const auto a = static_cast<double>(row0[x0]);
+  const auto b = static_cast<double>(row0[x1]);
+  const auto c = static_cast<double>(row1[x0]);
+  const auto d = static_cast<double>(row1[x1]);
   const double top = a + fx * (b - a);
   const double bottom = c + fx * (d - c);
   return top + fy * (bottom - top);
@@ -182,8 +182,8 @@ ApertureResult DetectAperture(const cv::Mat& image,
     int best = -1;
     double best_slope = 0.0;
     for (int i = 1; i + 1 < samples; ++i) {
-      const double slope = profile[static_cast<std::size_t>(i + 1)] -
-                           profile[static_cast<std::size_t>(i - 1)];
+      const double slope = profile[static_cast<std::size_t>(i) + 1] -
+                           profile[static_cast<std::size_t>(i) - 1];
       if (slope < best_slope) {
         best_slope = slope;
         best = i;
@@ -191,8 +191,8 @@ ApertureResult DetectAperture(const cv::Mat& image,
     }
     if (best < 2 || best > samples - 3) continue;
     const auto slope_at = [&](int i) {
-      return profile[static_cast<std::size_t>(i + 1)] -
-             profile[static_cast<std::size_t>(i - 1)];
+      return profile[static_cast<std::size_t>(i) + 1] -
+             profile[static_cast<std::size_t>(i) - 1];
     };
     const double delta = ParabolaVertexOffset(
         slope_at(best - 1), slope_at(best), slope_at(best + 1));

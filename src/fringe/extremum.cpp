@@ -163,8 +163,8 @@ PeriodEstimate EstimatePeriod(std::span<const double> value,
   if (k_high <= k_low + 2) return estimate;
   std::vector<double> power(static_cast<std::size_t>(padded / 2), 0.0);
   for (int k = 1; k < padded / 2; ++k) {
-    const double re = complex[2 * k];
-    const double im = complex[2 * k + 1];
+    const double re = complex[2 * static_cast<std::ptrdiff_t>(k)];
+    const double im = complex[2 * static_cast<std::ptrdiff_t>(k) + 1];
     power[static_cast<std::size_t>(k)] = re * re + im * im;
   }
   int best = k_low;
@@ -182,9 +182,9 @@ PeriodEstimate EstimatePeriod(std::span<const double> value,
   if (!(peak > 0.0)) return estimate;
   const double tiny = peak * 1e-300;
   const double delta = ParabolaVertexOffset(
-      std::log(power[static_cast<std::size_t>(best - 1)] + tiny),
+      std::log(power[static_cast<std::size_t>(best) - 1] + tiny),
       std::log(peak),
-      std::log(power[static_cast<std::size_t>(best + 1)] + tiny));
+      std::log(power[static_cast<std::size_t>(best) + 1] + tiny));
   estimate.period = length / (static_cast<double>(best) + delta);
   estimate.peak_ratio = median > 0.0 ? peak / median : 1e300;
   estimate.ok = std::isfinite(estimate.period) && best > k_low && best < k_high;

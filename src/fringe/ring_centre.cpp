@@ -48,8 +48,8 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
     for (int x = 1; x < image.cols - 1; ++x) {
       const double dx = x - region.centre.x;
       if (dx * dx + dy * dy > inner2) continue;
-      const double gxv = row_x[x];
-      const double gyv = row_y[x];
+      const auto gxv = static_cast<double>(row_x[x]);
+      const auto gyv = static_cast<double>(row_y[x]);
       const double g2 = gxv * gxv + gyv * gyv;
       if (!(g2 > 0.0)) continue;
       const double g = std::sqrt(g2);
@@ -179,7 +179,7 @@ double ProfileSharpness(const PixelSamples& samples, cv::Point2d centre,
     const double u = (dx * dx + dy * dy) * inverse;
     const auto b = static_cast<std::size_t>(u);
     const double f = u - static_cast<double>(b);
-    const double v = samples.value[i];
+    const auto v = static_cast<double>(samples.value[i]);
     sum[b] += (1.0 - f) * v;
     count[b] += 1.0 - f;
     sum[b + 1] += f * v;

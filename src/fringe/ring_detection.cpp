@@ -149,7 +149,7 @@ Analysis AnalyseAbout(const cv::Mat& flat, const Circle& region,
   const SectorProfiles sectors = AccumulateSectorProfiles(
       flat, region, centre, period / kBinsPerPeriod, sector_count);
   const R2Profile mean = ExtractProfile(sectors, -1);
-  if (mean.r2.size() < 2 * kBinsPerPeriod) {
+  if (mean.r2.size() < 2 * static_cast<std::size_t>(kBinsPerPeriod)) {
     return Failed(
         "too few rings: less than 2 fringes within the evaluated aperture (3 "
         "needed)");
