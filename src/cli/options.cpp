@@ -18,7 +18,12 @@ void Convert(boost::any& v, const std::vector<std::string>& values, F parse) {
   try {
     v = boost::any(T(parse(s)));
   } catch (const InputError& e) {
-    throw po::invalid_option_value(e.what());
+    // Boost fills in the option name when it adds the error's context.
+    std::string message = e.what();
+    for (std::size_t p = message.find('%'); p != std::string::npos; p = message.find('%', p)) {
+      message.erase(p, 1);
+    }
+    throw po::error_with_option_name("%canonical_option%: " + message);
   }
 }
 
@@ -70,7 +75,17 @@ bool ParseCommand(const std::string& command, const std::string& usage,
   }
   if (vm->count("config") != 0U) {
     const std::string path = (*vm)["config"].as<std::string>();
-    std::istringstream text(ReadTextFile(path));
+    // INI comments may start with ';' (as in our other INI files); Boost's
+    // config parser only knows '#'.
+    std::istringstream raw(ReadTextFile(path));
+    std::string contents;
+    for (std::string line; std::getline(raw, line);) {
+      const std::size_t first = line.find_first_not_of(" \t");
+      if (first != std::string::npos && line[first] == ';') line[first] = '#';
+      contents += line;
+      contents += '\n';
+    }
+    std::istringstream text(contents);
     try {
       po::store(po::parse_config_file(text, desc, false), *vm);
     } catch (const po::error& e) {

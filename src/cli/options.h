@@ -7,7 +7,12 @@
 #include <string>
 #include <vector>
 
+// GCC 12 at -O3 reports a false "potential null pointer dereference" inside
+// Boost's typed_value::notify; silence it for Boost's own code only.
+#pragma GCC diagnostic push
+#pragma GCC diagnostic ignored "-Wnull-dereference"
 #include <boost/program_options.hpp>
+#pragma GCC diagnostic pop
 
 #include "core/light_source.h"
 #include "core/quantity.h"

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cctype>
+#include <charconv>
 
 #include "core/error.h"
 #include "core/ini.h"
@@ -123,6 +124,13 @@ Wavelength ResolveWavelength(std::string_view text, const SourceTable& table,
   if (std::isalpha(static_cast<unsigned char>(t.front())) != 0) {
     throw InputError(prefix + "unknown light source '" + std::string(t) + "'; known: " +
                      table.Names() + "; or give a length (" + kLengthUnits + ")");
+  }
+  double bare = 0.0;
+  const char* end = t.data() + t.size();
+  if (std::from_chars(t.data(), end, bare).ptr == end) {
+    throw InputError(prefix + "'" + std::string(t) + "' has no unit; give a length (" +
+                     kLengthUnits + "), e.g. " + std::string(t) +
+                     "nm, or a source name (" + table.Names() + ")");
   }
   Wavelength w;
   w.value = ParseLength(t, what);
