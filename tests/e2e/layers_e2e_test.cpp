@@ -11,43 +11,16 @@
 #include <nlohmann/json.hpp>
 #include <string>
 
+#include "e2e/e2e_util.h"
+
 namespace {
 
-struct Outcome {
-  int exit_code = -1;
-  std::string out;  // standard output
-  std::string err;  // standard error
-};
+using figura::e2e::CountLines;
+using Outcome = figura::e2e::CommandOutcome;
 
-// Runs `figura ARGS`, capturing stdout through popen and stderr via a file.
+// Runs `figura ARGS`, capturing its output under a folder named after tag.
 Outcome Figura(const std::string& args, const std::string& tag) {
-  const std::filesystem::path err_path =
-      std::filesystem::path(FIGURA_TEST_TMP) / ("layers_e2e_" + tag + ".err");
-  const std::string command = std::string("'") + FIGURA_BINARY + "' " + args +
-                              " 2>'" + err_path.string() + "'";
-  Outcome run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  std::array<char, 4096> buffer{};
-  size_t n = 0;
-  while ((n = fread(buffer.data(), 1, buffer.size(), pipe)) > 0)
-    run.out.append(buffer.data(), n);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  // Read with stdio: std::istreambuf_iterator trips -Wnull-dereference in
-  // GCC 12 release builds.
-  if (FILE* err = std::fopen(err_path.c_str(), "r"); err != nullptr) {
-    while ((n = fread(buffer.data(), 1, buffer.size(), err)) > 0)
-      run.err.append(buffer.data(), n);
-    std::fclose(err);
-  }
-  return run;
-}
-
-int CountLines(const std::string& text) {
-  int lines = 0;
-  for (char c : text) lines += c == '\n' ? 1 : 0;
-  return lines;
+  return figura::e2e::RunFigura(args, "layers_e2e_" + tag);
 }
 
 TEST(LayersE2e, CrownAirCrownJson) {

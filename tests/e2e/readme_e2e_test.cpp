@@ -2,19 +2,14 @@
 // that CI runs exactly what a user is told to run.
 #include <gtest/gtest.h>
 
-#include <fstream>
-#include <sstream>
 #include <string>
 #include <vector>
 
+#include "e2e/e2e_util.h"
+
 namespace {
 
-std::string Read(const std::string& path) {
-  std::ifstream in(path);
-  std::ostringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using figura::e2e::ReadFile;
 
 // The bodies of the ```sh blocks of a Markdown text.
 std::vector<std::string> ShellBlocks(const std::string& md) {
@@ -31,13 +26,16 @@ std::vector<std::string> ShellBlocks(const std::string& md) {
 }
 
 TEST(Readme, CiRunsTheReadmeTestCommand) {
-  const std::string readme = Read(std::string(FIGURA_SOURCE_DIR) + "/README.md");
+  const std::string readme =
+      ReadFile(std::string(FIGURA_SOURCE_DIR) + "/README.md");
   const std::vector<std::string> blocks = ShellBlocks(readme);
   ASSERT_GE(blocks.size(), 2U) << "README needs the two quick-start commands";
   std::string test_command = blocks[1];
-  while (!test_command.empty() && test_command.back() == '\n') test_command.pop_back();
-  EXPECT_EQ(test_command.find('\n'), std::string::npos) << "command (b) is one line";
-  const std::string ci = Read(std::string(FIGURA_SOURCE_DIR) + "/.ci/run");
+  while (!test_command.empty() && test_command.back() == '\n')
+    test_command.pop_back();
+  EXPECT_EQ(test_command.find('\n'), std::string::npos)
+      << "command (b) is one line";
+  const std::string ci = ReadFile(std::string(FIGURA_SOURCE_DIR) + "/.ci/run");
   EXPECT_NE(ci.find("\n" + test_command + "\n"), std::string::npos)
       << ".ci/run must contain README command (b) verbatim:\n"
       << test_command;

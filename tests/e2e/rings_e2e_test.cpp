@@ -10,31 +10,21 @@
 #include <sstream>
 #include <string>
 
+#include "e2e/e2e_util.h"
+
 namespace {
 
 namespace fs = std::filesystem;
 
-std::string Slurp(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using figura::e2e::ReadFile;
+using figura::e2e::TempDir;
 
+// Runs `figura ARGS` with output captured in dir; returns the exit code and
+// sets *err to standard error.
 int Figura(const std::string& args, const fs::path& dir, std::string* err) {
-  const std::string cmd = std::string(FIGURA_BINARY) + " " + args + " >" +
-                          (dir / "out.txt").string() + " 2>" +
-                          (dir / "err.txt").string();
-  const int status = std::system(cmd.c_str());
-  *err = Slurp(dir / "err.txt");
-  return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-}
-
-fs::path TempDir(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / name;
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
+  const figura::e2e::CommandOutcome run = figura::e2e::RunFigura(args, dir);
+  *err = run.err;
+  return run.exit_code;
 }
 
 TEST(RingsE2e, SimulatedLensOnFlat) {
@@ -56,8 +46,8 @@ TEST(RingsE2e, SimulatedLensOnFlat) {
             0)
       << err;
   const auto truth =
-      nlohmann::json::parse(Slurp(dir / "lens.truth.json"))["truth"];
-  const auto r = nlohmann::json::parse(Slurp(dir / "r.json"));
+      nlohmann::json::parse(ReadFile(dir / "lens.truth.json"))["truth"];
+  const auto r = nlohmann::json::parse(ReadFile(dir / "r.json"));
   const double expected = truth["part_radius_mm"].get<double>();
   // Issue target: R within 0.05 % on a 16-bit photo with blur, noise and
   // falloff; centre within 0.2 px.
@@ -84,7 +74,7 @@ TEST(RingsE2e, DiameterModeWorkedExample) {
                    dir, &err),
             0)
       << err;
-  const auto r = nlohmann::json::parse(Slurp(dir / "d.json"));
+  const auto r = nlohmann::json::parse(ReadFile(dir / "d.json"));
   EXPECT_NEAR(r["radius_of_curvature_mm"].get<double>(), 1250.0, 0.01);
   EXPECT_TRUE(
       r["radius_of_curvature_u95_mm"].is_null());  // one ring: no u, said why

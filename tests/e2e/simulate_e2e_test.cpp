@@ -13,6 +13,7 @@
 #include <sstream>
 #include <string>
 
+#include "e2e/e2e_util.h"
 #include "io/image.h"
 
 namespace figura {
@@ -20,41 +21,18 @@ namespace {
 
 namespace fs = std::filesystem;
 
-struct CommandRun {
-  int exit_code = -1;
-  std::string out;
-  std::string err;
-};
+using CommandRun = e2e::CommandOutcome;
+using e2e::ReadFile;
+using e2e::TempDir;
 
-std::string Slurp(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
+// Runs `figura ARGS` with output captured in dir.
 CommandRun Figura(const std::string& args, const fs::path& dir) {
-  const fs::path out = dir / "stdout.txt";
-  const fs::path err = dir / "stderr.txt";
-  const std::string cmd = std::string(FIGURA_BINARY) + " " + args + " >" +
-                          out.string() + " 2>" + err.string();
-  const int status = std::system(cmd.c_str());
-  CommandRun r;
-  r.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  r.out = Slurp(out);
-  r.err = Slurp(err);
-  return r;
+  return e2e::RunFigura(args, dir);
 }
 
+// A gap file of tests/fixtures/sim.
 fs::path Fixture(const std::string& name) {
-  return fs::path(FIGURA_SOURCE_DIR) / "tests/fixtures/sim" / name;
-}
-
-fs::path TempDir(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / name;
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
+  return e2e::Fixture("sim/" + name);
 }
 
 TEST(SimulateE2e, WritesImageAndTruth) {
@@ -68,7 +46,7 @@ TEST(SimulateE2e, WritesImageAndTruth) {
   ASSERT_TRUE(fs::exists(image));
   const fs::path truth_path = dir / "lens.truth.json";
   ASSERT_TRUE(fs::exists(truth_path));
-  const nlohmann::json truth = nlohmann::json::parse(Slurp(truth_path));
+  const nlohmann::json truth = nlohmann::json::parse(ReadFile(truth_path));
   EXPECT_EQ(truth["seed"].get<int>(), 99);  // --seed overrides the file's 11
   EXPECT_EQ(truth["image"]["width"].get<int>(), 400);
   EXPECT_EQ(truth["truth"]["centre_fringe"], "dark");

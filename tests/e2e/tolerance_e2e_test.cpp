@@ -11,35 +11,15 @@
 #include <nlohmann/json.hpp>
 #include <string>
 
+#include "e2e/e2e_util.h"
+
 namespace {
 
-struct Result {
-  int exit_code = -1;
-  std::string out;  // standard output
-  std::string err;  // standard error
-};
+using Result = figura::e2e::CommandOutcome;
 
 // Runs `figura tolerance ARGS` (ARGS already quoted for the shell).
 Result Tolerance(const std::string& args, const std::string& tag) {
-  const std::filesystem::path err_path =
-      std::filesystem::path(FIGURA_TEST_TMP) /
-      ("tolerance_e2e_" + tag + ".err");
-  const std::string command = std::string("'") + FIGURA_BINARY +
-                              "' tolerance " + args + " 2>'" +
-                              err_path.string() + "'";
-  Result run;
-  FILE* pipe = popen(command.c_str(), "r");
-  if (pipe == nullptr) return run;
-  std::array<char, 4096> buffer{};
-  size_t n = 0;
-  while ((n = fread(buffer.data(), 1, buffer.size(), pipe)) > 0)
-    run.out.append(buffer.data(), n);
-  const int status = pclose(pipe);
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  std::ifstream err(err_path);
-  run.err.assign(std::istreambuf_iterator<char>(err),
-                 std::istreambuf_iterator<char>());
-  return run;
+  return figura::e2e::RunFigura("tolerance " + args, "tolerance_e2e_" + tag);
 }
 
 // DIN ISO 10110-5:2016, abstract: "3/-(1); λ = 546 nm" means B = 273 nm.
