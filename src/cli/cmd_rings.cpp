@@ -63,7 +63,6 @@ int Run(const std::vector<std::string>& args) {
   std::vector<std::string> images;
   std::string diameters, json_path, overlay_path, plot_path, contact = "centre";
   std::string aperture_centre, aperture_diameter;
-  std::optional<Length> reference_radius;
   // clang-format off
   desc.add_options()
       ("image", po::value(&images)->multitoken(), "photographs of the rings (TIFF, PNG, JPEG, BMP)")

@@ -12,7 +12,9 @@ std::vector<Command>& Registry() {
 
 }  // namespace
 
-Registrar::Registrar(Command command) { Registry().push_back(std::move(command)); }
+Registrar::Registrar(Command command) {
+  Registry().push_back(std::move(command));
+}
 
 std::vector<Command> Commands() {
   std::vector<Command> out = Registry();

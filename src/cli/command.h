@@ -9,7 +9,8 @@ namespace figura::cli {
 
 // Exit codes, documented in docs/cli.md.
 inline constexpr int kExitOk = 0;
-inline constexpr int kExitFail = 1;   // a verdict: a part failed or is indeterminate
+inline constexpr int kExitFail =
+    1;  // a verdict: a part failed or is indeterminate
 inline constexpr int kExitInput = 2;  // usage or input error
 
 // One subcommand: its name, a one-line summary for `figura --help`, and its

@@ -1,12 +1,11 @@
 // figura: the command-line entry point. Dispatches to a subcommand and is
 // the one place where bad-input errors become a message and an exit code.
+#include <boost/program_options/errors.hpp>
 #include <cstring>
 #include <exception>
 #include <iostream>
 #include <string>
 #include <vector>
-
-#include <boost/program_options/errors.hpp>
 
 #include "cli/command.h"
 #include "core/error.h"
@@ -21,10 +20,12 @@ void PrintHelp(std::ostream& out) {
          "       figura COMMAND --help\n"
          "       figura --version\n\ncommands:\n";
   for (const figura::cli::Command& c : figura::cli::Commands()) {
-    out << "  " << c.name << std::string(c.name.size() < 12 ? 12 - c.name.size() : 1, ' ')
+    out << "  " << c.name
+        << std::string(c.name.size() < 12 ? 12 - c.name.size() : 1, ' ')
         << c.summary << "\n";
   }
-  out << "\nexit codes: 0 ok (all parts pass), 1 a part fails or is indeterminate,\n"
+  out << "\nexit codes: 0 ok (all parts pass), 1 a part fails or is "
+         "indeterminate,\n"
          "            2 usage or input error\n";
 }
 
@@ -54,14 +55,16 @@ int main(int argc, char** argv) {
     } catch (const figura::InputError& e) {
       std::cerr << "figura " << c.name << ": error: " << e.what() << "\n";
     } catch (const figura::OutputError& e) {
-      std::cerr << "figura " << c.name << ": cannot write: " << e.what() << "\n";
+      std::cerr << "figura " << c.name << ": cannot write: " << e.what()
+                << "\n";
     } catch (const boost::program_options::error& e) {
-      std::cerr << "figura " << c.name << ": " << e.what() << " (see figura " << c.name
-                << " --help)\n";
+      std::cerr << "figura " << c.name << ": " << e.what() << " (see figura "
+                << c.name << " --help)\n";
     } catch (const std::bad_alloc&) {
       std::cerr << "figura " << c.name << ": error: out of memory\n";
     } catch (const std::exception& e) {
-      std::cerr << "figura " << c.name << ": internal error: " << e.what() << "\n";
+      std::cerr << "figura " << c.name << ": internal error: " << e.what()
+                << "\n";
     }
     return figura::cli::kExitInput;
   }

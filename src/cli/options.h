@@ -23,10 +23,12 @@ namespace figura {
 // Program_options validators so that options bind straight to fields of the
 // library's options structs. Each throws po::invalid_option_value carrying
 // our readable message.
-void validate(boost::any& v, const std::vector<std::string>& values, Length* /*unused*/, int);
-void validate(boost::any& v, const std::vector<std::string>& values, Wavelength* /*unused*/,
-              int);
-void validate(boost::any& v, const std::vector<std::string>& values, View* /*unused*/, int);
+void validate(boost::any& v, const std::vector<std::string>& values,
+              Length* /*unused*/, int);
+void validate(boost::any& v, const std::vector<std::string>& values,
+              Wavelength* /*unused*/, int);
+void validate(boost::any& v, const std::vector<std::string>& values,
+              View* /*unused*/, int);
 
 }  // namespace figura
 
@@ -42,7 +44,8 @@ void AddMediaOptions(po::options_description& desc, MediaStack* stack);
 // when --help was asked for and printed to `out`; throws po::error or
 // InputError on bad input. `usage` is the synopsis line printed with help.
 bool ParseCommand(const std::string& command, const std::string& usage,
-                  const std::vector<std::string>& args, po::options_description& desc,
+                  const std::vector<std::string>& args,
+                  po::options_description& desc,
                   const po::positional_options_description& positional,
                   po::variables_map* vm, std::ostream& out);
 

@@ -24,16 +24,19 @@ IniFile IniFile::Parse(std::string_view text, std::string origin) {
       if (eol == text.size()) break;
       continue;
     }
-    const std::string where = ini.origin_ + ":" + std::to_string(line_no) + ": ";
+    const std::string where =
+        ini.origin_ + ":" + std::to_string(line_no) + ": ";
     if (line.front() == '[') {
       if (line.back() != ']' || line.size() < 3) {
-        throw InputError(where + "malformed section header '" + std::string(line) + "'");
+        throw InputError(where + "malformed section header '" +
+                         std::string(line) + "'");
       }
       section = std::string(Trim(line.substr(1, line.size() - 2)));
     } else {
       const std::size_t eq = line.find('=');
       if (eq == std::string_view::npos) {
-        throw InputError(where + "expected 'key = value', got '" + std::string(line) + "'");
+        throw InputError(where + "expected 'key = value', got '" +
+                         std::string(line) + "'");
       }
       IniEntry entry{section, std::string(Trim(line.substr(0, eq))),
                      std::string(Trim(line.substr(eq + 1))), line_no};
@@ -53,14 +56,16 @@ IniFile IniFile::Load(const std::filesystem::path& path) {
   return Parse(ReadTextFile(path), path.string());
 }
 
-const IniEntry* IniFile::FindEntry(std::string_view section, std::string_view key) const {
+const IniEntry* IniFile::FindEntry(std::string_view section,
+                                   std::string_view key) const {
   for (const IniEntry& e : entries_) {
     if (e.section == section && e.key == key) return &e;
   }
   return nullptr;
 }
 
-std::optional<std::string> IniFile::Find(std::string_view section, std::string_view key) const {
+std::optional<std::string> IniFile::Find(std::string_view section,
+                                         std::string_view key) const {
   const IniEntry* e = FindEntry(section, key);
   if (e == nullptr) return std::nullopt;
   return e->value;
@@ -69,7 +74,8 @@ std::optional<std::string> IniFile::Find(std::string_view section, std::string_v
 std::vector<std::string> IniFile::Sections() const {
   std::vector<std::string> out;
   for (const IniEntry& e : entries_) {
-    if (std::find(out.begin(), out.end(), e.section) == out.end()) out.push_back(e.section);
+    if (std::find(out.begin(), out.end(), e.section) == out.end())
+      out.push_back(e.section);
   }
   return out;
 }

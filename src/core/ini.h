@@ -34,11 +34,14 @@ class IniFile {
   [[nodiscard]] std::optional<std::string> Find(std::string_view section,
                                                 std::string_view key) const;
   // The entry of section.key, if present.
-  [[nodiscard]] const IniEntry* FindEntry(std::string_view section, std::string_view key) const;
+  [[nodiscard]] const IniEntry* FindEntry(std::string_view section,
+                                          std::string_view key) const;
   // Section names in order of first appearance ("" for keys before any).
   [[nodiscard]] std::vector<std::string> Sections() const;
   // All entries in file order.
-  [[nodiscard]] const std::vector<IniEntry>& entries() const { return entries_; }
+  [[nodiscard]] const std::vector<IniEntry>& entries() const {
+    return entries_;
+  }
   // The name used in messages (usually the path).
   [[nodiscard]] const std::string& origin() const { return origin_; }
   // "origin:line: " for messages about one entry.

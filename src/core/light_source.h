@@ -53,7 +53,9 @@ class SourceTable {
   // The source called `name` (case-insensitive), or nullptr.
   [[nodiscard]] const LightSource* Find(std::string_view name) const;
   // All sources in file order.
-  [[nodiscard]] const std::vector<LightSource>& sources() const { return sources_; }
+  [[nodiscard]] const std::vector<LightSource>& sources() const {
+    return sources_;
+  }
   // Comma-separated names, for messages and help.
   [[nodiscard]] std::string Names() const;
 

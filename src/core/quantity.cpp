@@ -45,7 +45,8 @@ std::size_t ReadNumber(std::string_view text, double* value) {
 
 std::string_view Trim(std::string_view text) {
   const auto is_space = [](char c) {
-    return c == ' ' || c == '\t' || c == '\r' || c == '\n' || c == '\f' || c == '\v';
+    return c == ' ' || c == '\t' || c == '\r' || c == '\n' || c == '\f' ||
+           c == '\v';
   };
   while (!text.empty() && is_space(text.front())) text.remove_prefix(1);
   while (!text.empty() && is_space(text.back())) text.remove_suffix(1);
@@ -58,26 +59,28 @@ Length ParseLength(std::string_view text, std::string_view what) {
   const std::size_t used = ReadNumber(t, &value);
   if (used == 0) {
     throw InputError(Quote(what) + "'" + std::string(text) +
-                     "' is not a length; write a number with a unit (" + kLengthUnits +
-                     "), e.g. 589.29nm");
+                     "' is not a length; write a number with a unit (" +
+                     kLengthUnits + "), e.g. 589.29nm");
   }
   const std::string_view unit = Trim(t.substr(used));
   if (unit.empty()) {
     throw InputError(Quote(what) + "'" + std::string(text) +
-                     "' has no unit; accepted units: " + kLengthUnits + " (e.g. " +
-                     std::string(t) + "mm)");
+                     "' has no unit; accepted units: " + kLengthUnits +
+                     " (e.g. " + std::string(t) + "mm)");
   }
   for (const Unit& u : kUnits) {
     if (unit == u.name) {
       const double metres = value * u.metres;
       if (!std::isfinite(metres)) {
-        throw InputError(Quote(what) + "'" + std::string(text) + "' is not a finite length");
+        throw InputError(Quote(what) + "'" + std::string(text) +
+                         "' is not a finite length");
       }
       return Length{metres};
     }
   }
-  throw InputError(Quote(what) + "'" + std::string(text) + "' has unknown unit '" +
-                   std::string(unit) + "'; accepted units: " + kLengthUnits);
+  throw InputError(Quote(what) + "'" + std::string(text) +
+                   "' has unknown unit '" + std::string(unit) +
+                   "'; accepted units: " + kLengthUnits);
 }
 
 double ParseNumber(std::string_view text, std::string_view what) {
@@ -85,7 +88,8 @@ double ParseNumber(std::string_view text, std::string_view what) {
   double value = 0.0;
   const std::size_t used = ReadNumber(t, &value);
   if (used == 0 || used != t.size() || !std::isfinite(value)) {
-    throw InputError(Quote(what) + "'" + std::string(text) + "' is not a plain number");
+    throw InputError(Quote(what) + "'" + std::string(text) +
+                     "' is not a plain number");
   }
   return value;
 }
@@ -94,21 +98,19 @@ std::string FormatLength(Length length, int digits) {
   const double a = std::fabs(length.metres);
   double scale = 1.0;
   const char* unit = "m";
-  if (a == 0.0) {
-    scale = 1e3;
-    unit = "mm";
-  } else if (a < 1e-6) {
+  if (a != 0.0 && a < 1e-6) {
     scale = 1e9;
     unit = "nm";
-  } else if (a < 1e-3) {
+  } else if (a != 0.0 && a < 1e-3) {
     scale = 1e6;
     unit = "um";
-  } else if (a < 1.0) {
+  } else if (a < 1.0) {  // zero reads "0 mm"
     scale = 1e3;
     unit = "mm";
   }
   std::array<char, 64> buf{};
-  std::snprintf(buf.data(), buf.size(), "%.*g %s", digits, length.metres * scale, unit);
+  std::snprintf(buf.data(), buf.size(), "%.*g %s", digits,
+                length.metres * scale, unit);
   return buf.data();
 }
 

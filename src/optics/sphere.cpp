@@ -3,8 +3,24 @@
 #include <cassert>
 #include <cmath>
 #include <limits>
+#include <string>
+
+#include "core/error.h"
+#include "core/quantity.h"
 
 namespace figura {
+
+Contact ParseContact(std::string_view text, std::string_view what) {
+  const std::string_view t = Trim(text);
+  if (t == "centre" || t == "center") return Contact::kCentre;
+  if (t == "edge") return Contact::kEdge;
+  throw InputError(std::string(what) + ": expected centre or edge, got '" +
+                   std::string(text) + "'");
+}
+
+const char* ContactName(Contact contact) {
+  return contact == Contact::kCentre ? "centre" : "edge";
+}
 
 double SphereSag(double radius_m, double height_m) {
   assert(radius_m != 0.0 && !std::isnan(radius_m));

@@ -18,7 +18,22 @@
 // everywhere for a perfect match (R_plate = -R_part).
 #pragma once
 
+#include <string_view>
+
 namespace figura {
+
+// Where two spheres touch: on axis (the gap opens towards the edge), or
+// around the rim of the test diameter (a part flatter than its plate). The
+// press test tells which: pressed at the centre, fringes moving outward mean
+// contact at the centre ([practice], ../shared/references.md).
+enum class Contact { kCentre, kEdge };
+
+// Parses "centre" (or "center") / "edge". Throws InputError naming `what`.
+Contact ParseContact(std::string_view text,
+                     std::string_view what = "--contact");
+
+// "centre" / "edge".
+const char* ContactName(Contact contact);
 
 // Sag (m) of a sphere of signed radius R (m) at height r (m) from its axis:
 // s = R - sign(R) sqrt(R^2 - r^2) = r^2 / (R (1 + sqrt(1 - r^2/R^2))) (the

@@ -27,10 +27,6 @@ std::string CheckRadius(double radius_m, double reach_m, const char* key) {
 
 }  // namespace
 
-const char* ContactName(Contact contact) {
-  return contact == Contact::kCentre ? "centre" : "edge";
-}
-
 std::string GapOptions::Check(double aperture_radius_m) const {
   std::ostringstream out;
   if (!std::isfinite(aperture_radius_m) || aperture_radius_m <= 0.0) {

@@ -20,16 +20,10 @@
 #include <utility>
 #include <vector>
 
+#include "optics/sphere.h"
 #include "surface/zernike.h"
 
 namespace figura {
-
-// Where a sphere pair touches: on axis, or around the rim of the aperture
-// (a part flatter than its plate).
-enum class Contact { kCentre, kEdge };
-
-// "centre" / "edge".
-const char* ContactName(Contact contact);
 
 // The gap's description. Lengths in metres.
 struct GapOptions {

@@ -88,15 +88,7 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                      }},
                     {"contact",
                      [&](const std::string& v, const std::string& w) {
-                       const std::string c = Lower(Trim(v));
-                       if (c == "centre" || c == "center") {
-                         o.gap.contact = Contact::kCentre;
-                       } else if (c == "edge") {
-                         o.gap.contact = Contact::kEdge;
-                       } else {
-                         throw InputError(
-                             w + ": expected centre or edge, got '" + v + "'");
-                       }
+                       o.gap.contact = ParseContact(Lower(Trim(v)), w);
                      }},
                     {"contact_offset",
                      [&](const std::string& v, const std::string& w) {

@@ -52,6 +52,7 @@ TEST(FormatLength, PicksAReadableUnit) {
   EXPECT_EQ(FormatLength(Length::Nanometres(589.2938)), "589.2938 nm");
   EXPECT_EQ(FormatLength(Length::Micrometres(8)), "8 um");
   EXPECT_EQ(FormatLength(Length::Millimetres(-100)), "-100 mm");
+  EXPECT_EQ(FormatLength(Length{}), "0 mm");
   EXPECT_EQ(FormatLength(Length::Metres(1.2)), "1.2 m");
 }
 

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <limits>
 
+#include "core/error.h"
 #include "optics/media.h"
 
 namespace figura {
@@ -124,6 +125,20 @@ TEST(PartRadiusFromSagDifference, InvertsSphereGap) {
   EXPECT_NEAR(PartRadiusFromSagDifference(-0.100, d, 0.0), 0.100, 1e-14);
   // Zero total sag on a flat is a flat part.
   EXPECT_EQ(PartRadiusFromSagDifference(kInf, d, 0.0), kInf);
+}
+
+}  // namespace
+}  // namespace figura
+
+namespace figura {
+namespace {
+
+TEST(Contact, ParsesBothSpellingsAndRefusesOthers) {
+  EXPECT_EQ(ParseContact("centre"), Contact::kCentre);
+  EXPECT_EQ(ParseContact(" center "), Contact::kCentre);
+  EXPECT_EQ(ParseContact("edge"), Contact::kEdge);
+  EXPECT_STREQ(ContactName(Contact::kEdge), "edge");
+  EXPECT_THROW(ParseContact("middle"), InputError);
 }
 
 }  // namespace
