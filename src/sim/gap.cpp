@@ -33,22 +33,22 @@ std::string GapOptions::Check(double aperture_radius_m) const {
     return "aperture.diameter: must be a positive length";
   }
   if (!std::isfinite(contact_x_m) || !std::isfinite(contact_y_m)) {
-    return "gap.contact_x: the contact point must be finite";
+    return "gap.contact-x: the contact point must be finite";
   }
   const double reach = aperture_radius_m + std::hypot(contact_x_m, contact_y_m);
-  if (std::string m = CheckRadius(part_radius_m, reach, "gap.part_radius");
+  if (std::string m = CheckRadius(part_radius_m, reach, "gap.part-radius");
       !m.empty()) {
     return m;
   }
-  if (std::string m = CheckRadius(plate_radius_m, reach, "gap.plate_radius");
+  if (std::string m = CheckRadius(plate_radius_m, reach, "gap.plate-radius");
       !m.empty()) {
     return m;
   }
   if (!std::isfinite(contact_offset_m) || contact_offset_m < 0.0) {
-    return "gap.contact_offset: must be a length >= 0 (the gap can only open)";
+    return "gap.contact-offset: must be a length >= 0 (the gap can only open)";
   }
   if (!std::isfinite(tilt_x_m) || !std::isfinite(tilt_y_m)) {
-    return "gap.tilt_x: tilt must be finite";
+    return "gap.tilt-x: tilt must be finite";
   }
   const bool curved =
       std::isfinite(part_radius_m) || std::isfinite(plate_radius_m);
@@ -60,7 +60,7 @@ std::string GapOptions::Check(double aperture_radius_m) const {
     }
     if (contact == Contact::kEdge) {
       if (contact_x_m != 0.0 || contact_y_m != 0.0) {
-        return "gap.contact_x: an edge contact is centred on the aperture; "
+        return "gap.contact-x: an edge contact is centred on the aperture; "
                "remove contact_x/contact_y";
       }
       if (at_reach > 0.0) {

@@ -78,11 +78,11 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
   const std::
       map<std::string, std::map<std::string, Setter>>
           keys = {{"gap",
-                   {{"part_radius",
+                   {{"part-radius",
                      [&](const std::string& v, const std::string& w) {
                        o.gap.part_radius_m = ParseRadius(v, w);
                      }},
-                    {"plate_radius",
+                    {"plate-radius",
                      [&](const std::string& v, const std::string& w) {
                        o.gap.plate_radius_m = ParseRadius(v, w);
                      }},
@@ -90,32 +90,32 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                      [&](const std::string& v, const std::string& w) {
                        o.gap.contact = ParseContact(Lower(Trim(v)), w);
                      }},
-                    {"contact_offset",
+                    {"contact-offset",
                      [&](const std::string& v, const std::string& w) {
                        o.gap.contact_offset_m = ParseLength(v, w).metres;
                      }},
-                    {"contact_x",
+                    {"contact-x",
                      [&](const std::string& v, const std::string& w) {
                        o.gap.contact_x_m = ParseLength(v, w).metres;
                      }},
-                    {"contact_y",
+                    {"contact-y",
                      [&](const std::string& v, const std::string& w) {
                        o.gap.contact_y_m = ParseLength(v, w).metres;
                      }},
-                    {"tilt_x", [&](const std::string& v,
+                    {"tilt-x", [&](const std::string& v,
                                    const std::string& /*w*/) { tilt_x = v; }},
-                    {"tilt_y", [&](const std::string& v,
+                    {"tilt-y", [&](const std::string& v,
                                    const std::string& /*w*/) { tilt_y = v; }}}},
                   {"media",
-                   {{"upper_index",
+                   {{"upper-index",
                      [&](const std::string& v, const std::string& w) {
                        o.stack.upper_index = ParseNumber(v, w);
                      }},
-                    {"gap_index",
+                    {"gap-index",
                      [&](const std::string& v, const std::string& w) {
                        o.stack.gap_index = ParseNumber(v, w);
                      }},
-                    {"lower_index",
+                    {"lower-index",
                      [&](const std::string& v, const std::string& w) {
                        o.stack.lower_index = ParseNumber(v, w);
                      }},
@@ -138,28 +138,28 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                      [&](const std::string& v, const std::string& /*w*/) {
                        diameter = v;
                      }},
-                    {"centre_x_px",
+                    {"centre-x-px",
                      [&](const std::string& v, const std::string& w) {
                        o.centre_x_px = ParseNumber(v, w);
                      }},
-                    {"centre_y_px",
+                    {"centre-y-px",
                      [&](const std::string& v, const std::string& w) {
                        o.centre_y_px = ParseNumber(v, w);
                      }}}},
                   {"camera",
-                   {{"width_px",
+                   {{"width-px",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.width_px = ParseInteger(v, w);
                      }},
-                    {"height_px",
+                    {"height-px",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.height_px = ParseInteger(v, w);
                      }},
-                    {"pixel_pitch",
+                    {"pixel-pitch",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.pixel_pitch_m = ParseLength(v, w).metres;
                      }},
-                    {"blur_sigma_px",
+                    {"blur-sigma-px",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.blur_sigma_px = ParseNumber(v, w);
                      }},
@@ -179,11 +179,11 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                      [&](const std::string& v, const std::string& w) {
                        o.camera.exposure = ParseNumber(v, w);
                      }},
-                    {"full_well",
+                    {"full-well",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.full_well_e = ParseNumber(v, w);
                      }},
-                    {"read_noise",
+                    {"read-noise",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.read_noise_e = ParseNumber(v, w);
                      }},
@@ -191,11 +191,11 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                      [&](const std::string& v,
                          const std::string&
                              w) { o.camera.gamma = ParseNumber(v, w); }},
-                    {"bit_depth",
+                    {"bit-depth",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.bit_depth = ParseInteger(v, w);
                      }},
-                    {"jpeg_quality",
+                    {"jpeg-quality",
                      [&](const std::string& v, const std::string& w) {
                        o.camera.jpeg_quality = ParseInteger(v, w);
                      }},
@@ -250,8 +250,8 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
       throw InputError(where + "unknown key '" + e.key + "' in [" + e.section +
                        "]; known: " + known);
     }
-    if (e.key == "tilt_x") tilt_x_entry = &e;
-    if (e.key == "tilt_y") tilt_y_entry = &e;
+    if (e.key == "tilt-x") tilt_x_entry = &e;
+    if (e.key == "tilt-y") tilt_y_entry = &e;
     if (e.key == "diameter") diameter_entry = &e;
     try {
       setter->second(e.value, what);

@@ -3,26 +3,26 @@
 // where a length is expected is an error. Keys (defaults in brackets):
 //
 // [gap]
-//   part_radius     part radius, signed as seen from the gap (+ convex), or
+//   part-radius     part radius, signed as seen from the gap (+ convex), or
 //                   "flat"  [100mm]
-//   plate_radius    test plate / reference radius, signed as seen from the
+//   plate-radius    test plate / reference radius, signed as seen from the
 //                   gap (a plate fitting a +100mm part is -100mm), or "flat"
 //                   [flat]
 //   contact         centre | edge: where the spheres touch  [centre]
-//   contact_offset  uniform extra gap (dust, spacer), >= 0  [0nm]
-//   contact_x       contact point from the aperture centre, x right  [0mm]
-//   contact_y       same, y up  [0mm]
-//   tilt_x          wedge: gap change from the centre to the +x edge, a
+//   contact-offset  uniform extra gap (dust, spacer), >= 0  [0nm]
+//   contact-x       contact point from the aperture centre, x right  [0mm]
+//   contact-y       same, y up  [0mm]
+//   tilt-x          wedge: gap change from the centre to the +x edge, a
 //                   length, or a slope with rad/mrad/urad  [0nm]
-//   tilt_y          same towards the +y edge  [0nm]
+//   tilt-y          same towards the +y edge  [0nm]
 // [zernike]
 //   zJ              coefficient of ISO 24157 term j = J in gap, a length,
 //                   e.g. "z5 = 120nm" (RMS-normalised; surface/zernike.h);
 //                   J <= 90 (radial order <= 12)
 // [media]
-//   upper_index     index of the medium light comes from  [1.5168]
-//   gap_index       index in the gap  [1.0]
-//   lower_index     index below the gap  [1.5168]
+//   upper-index     index of the medium light comes from  [1.5168]
+//   gap-index       index in the gap  [1.0]
+//   lower-index     index below the gap  [1.5168]
 //   view            reflected | transmitted  [reflected]
 // [light]
 //   wavelength      a length, or a source name from config/sources.ini (a
@@ -30,23 +30,23 @@
 //   bandwidth       Gaussian FWHM of every line  [0nm]
 // [aperture]
 //   diameter        clear aperture, a length or pixels ("640px")  [20mm]
-//   centre_x_px     aperture centre, pixels (x right, pixel centres at
+//   centre-x-px     aperture centre, pixels (x right, pixel centres at
 //                   integers)  [image centre]
-//   centre_y_px     same, y down  [image centre]
+//   centre-y-px     same, y down  [image centre]
 // [camera]
-//   width_px, height_px  image size  [1024, 768]
-//   pixel_pitch     object-side pixel size, a length  [25um]
-//   blur_sigma_px   Gaussian blur sigma, pixels  [0]
+//   width-px, height-px  image size  [1024, 768]
+//   pixel-pitch     object-side pixel size, a length  [25um]
+//   blur-sigma-px   Gaussian blur sigma, pixels  [0]
 //   falloff         relative illumination drop at the aperture edge  [0]
 //   background      stray light, fraction of full scale  [0]
 //   surround        level outside the aperture, fraction of full scale
 //                   [0.03]
 //   exposure        level of the brightest fringe  [0.8]
-//   full_well       electrons at full scale; 0 = no noise  [20000]
-//   read_noise      electrons RMS  [5]
+//   full-well       electrons at full scale; 0 = no noise  [20000]
+//   read-noise      electrons RMS  [5]
 //   gamma           stored = level^gamma  [1]
-//   bit_depth       8, 16 or 32 (float TIFF)  [16]
-//   jpeg_quality    1..100 for .jpg output  [95]
+//   bit-depth       8, 16 or 32 (float TIFF)  [16]
+//   jpeg-quality    1..100 for .jpg output  [95]
 //   seed            noise seed (recorded in the truth file)  [1]
 #pragma once
 

@@ -175,10 +175,10 @@ std::string SimulationOptions::Check() const {
     return "camera.width: more than 200 megapixels";
   }
   if (!std::isfinite(c.pixel_pitch_m) || c.pixel_pitch_m <= 0.0) {
-    return "camera.pixel_pitch: must be a positive length";
+    return "camera.pixel-pitch: must be a positive length";
   }
   if (!(c.blur_sigma_px >= 0.0 && c.blur_sigma_px <= 50.0)) {
-    return "camera.blur_sigma_px: must be 0 .. 50";
+    return "camera.blur-sigma-px: must be 0 .. 50";
   }
   if (!(c.falloff >= 0.0 && c.falloff < 1.0)) {
     return "camera.falloff: must be 0 .. <1 (relative drop at the edge)";
@@ -194,23 +194,23 @@ std::string SimulationOptions::Check() const {
            "scale) and <= 10";
   }
   if (!(c.full_well_e >= 0.0 && c.full_well_e <= 1e8)) {
-    return "camera.full_well: must be 0 (no shot noise) .. 1e8 electrons";
+    return "camera.full-well: must be 0 (no shot noise) .. 1e8 electrons";
   }
   if (!(c.read_noise_e >= 0.0 && c.read_noise_e <= 1e6)) {
-    return "camera.read_noise: must be >= 0 electrons";
+    return "camera.read-noise: must be >= 0 electrons";
   }
   if (c.read_noise_e > 0.0 && c.full_well_e == 0.0) {
-    return "camera.read_noise: needs camera.full_well > 0 (electrons per "
+    return "camera.read-noise: needs camera.full-well > 0 (electrons per "
            "full scale)";
   }
   if (!(c.gamma > 0.0 && c.gamma <= 5.0)) {
     return "camera.gamma: must be > 0 and <= 5";
   }
   if (c.bit_depth != 8 && c.bit_depth != 16 && c.bit_depth != 32) {
-    return "camera.bit_depth: must be 8, 16 or 32 (float TIFF)";
+    return "camera.bit-depth: must be 8, 16 or 32 (float TIFF)";
   }
   if (c.jpeg_quality < 1 || c.jpeg_quality > 100) {
-    return "camera.jpeg_quality: must be 1 .. 100";
+    return "camera.jpeg-quality: must be 1 .. 100";
   }
   if (std::string m = stack.Check(); !m.empty()) return "media: " + m;
   const double lambda = wavelength.value.metres;
@@ -232,7 +232,7 @@ std::string SimulationOptions::Check() const {
   }
   if ((centre_x_px && !std::isfinite(*centre_x_px)) ||
       (centre_y_px && !std::isfinite(*centre_y_px))) {
-    return "aperture.centre_x: must be finite";
+    return "aperture.centre-x: must be finite";
   }
   return gap.Check(0.5 * aperture_diameter_m);
 }
@@ -363,11 +363,11 @@ SimulationResult Simulate(const SimulationOptions& options) {
   if (min_gap_y < 0) {
     throw InputError(prefix +
                      "aperture: no pixel centre lies inside the aperture; "
-                     "check aperture.diameter, centre and camera.pixel_pitch");
+                     "check aperture.diameter, centre and camera.pixel-pitch");
   }
   if (all.min_gap < -1e-12) {
     std::ostringstream m;
-    m << prefix << "gap.contact_offset: the gap would be negative ("
+    m << prefix << "gap.contact-offset: the gap would be negative ("
       << all.min_gap * 1e9 << " nm) at pixel (" << all.min_gap_x << ", "
       << min_gap_y
       << "): the surfaces would overlap; raise contact_offset or reduce the "
@@ -380,7 +380,7 @@ SimulationResult Simulate(const SimulationOptions& options) {
     m << prefix << "fringes would alias: the local fringe period is "
       << all.min_period << " px at pixel (" << all.min_period_x << ", "
       << min_period_y << "), under the " << kMinFringePeriodPx
-      << " px a camera resolves; use a finer camera.pixel_pitch, a smaller "
+      << " px a camera resolves; use a finer camera.pixel-pitch, a smaller "
          "aperture, or a gap with fewer fringes";
     throw InputError(m.str());
   }
@@ -675,14 +675,14 @@ std::string CheckOutputPath(const std::filesystem::path& image_path,
   if (ext == ".png") {
     if (bit_depth == 32) {
       return image_path.string() +
-             ": PNG holds 8 or 16 bits; use .tif for camera.bit_depth = 32";
+             ": PNG holds 8 or 16 bits; use .tif for camera.bit-depth = 32";
     }
     return {};
   }
   if (ext == ".jpg" || ext == ".jpeg") {
     if (bit_depth != 8) {
       return image_path.string() +
-             ": JPEG holds 8 bits only; set camera.bit_depth = 8 or write "
+             ": JPEG holds 8 bits only; set camera.bit-depth = 8 or write "
              ".tif/.png";
     }
     return {};

@@ -284,7 +284,7 @@ TEST(Simulate, RefusesAliasingAndNegativeGaps) {
   EXPECT_THROW(Simulate(o), InputError);
   o = Newton(0.5, 589.2938e-9);
   o.camera.bit_depth = 12;
-  EXPECT_NE(o.Check().find("camera.bit_depth"), std::string::npos);
+  EXPECT_NE(o.Check().find("camera.bit-depth"), std::string::npos);
 }
 
 TEST(Simulate, SodiumDoubletBeatsAtTheExpectedGap) {
@@ -337,16 +337,16 @@ TEST(Simulate, SodiumDoubletBeatsAtTheExpectedGap) {
 
 TEST(GapFile, ParsesEveryKeyAndPointsAtBadLines) {
   const std::string text =
-      "[gap]\npart_radius = 250mm\nplate_radius = flat\ncontact = centre\n"
-      "contact_offset = 20nm\ncontact_x = 0.1mm\ncontact_y = -0.05mm\n"
-      "tilt_x = 2urad\ntilt_y = 30nm\n[zernike]\nz5 = 40nm\nz12 = -10nm\n"
-      "[media]\nupper_index = 1.5168\ngap_index = 1.0\nlower_index = 1.5168\n"
+      "[gap]\npart-radius = 250mm\nplate-radius = flat\ncontact = centre\n"
+      "contact-offset = 20nm\ncontact-x = 0.1mm\ncontact-y = -0.05mm\n"
+      "tilt-x = 2urad\ntilt-y = 30nm\n[zernike]\nz5 = 40nm\nz12 = -10nm\n"
+      "[media]\nupper-index = 1.5168\ngap-index = 1.0\nlower-index = 1.5168\n"
       "view = reflected\n[light]\nwavelength = helium-d\nbandwidth = 0.1nm\n"
-      "[aperture]\ndiameter = 400px\ncentre_x_px = 250\ncentre_y_px = 240.5\n"
-      "[camera]\nwidth_px = 500\nheight_px = 480\npixel_pitch = 12.5um\n"
-      "blur_sigma_px = 0.7\nfalloff = 0.1\nbackground = 0.01\nsurround = "
-      "0.04\nexposure = 0.75\nfull_well = 15000\nread_noise = 6\ngamma = "
-      "1\nbit_depth = 8\njpeg_quality = 90\nseed = 7\n";
+      "[aperture]\ndiameter = 400px\ncentre-x-px = 250\ncentre-y-px = 240.5\n"
+      "[camera]\nwidth-px = 500\nheight-px = 480\npixel-pitch = 12.5um\n"
+      "blur-sigma-px = 0.7\nfalloff = 0.1\nbackground = 0.01\nsurround = "
+      "0.04\nexposure = 0.75\nfull-well = 15000\nread-noise = 6\ngamma = "
+      "1\nbit-depth = 8\njpeg-quality = 90\nseed = 7\n";
   const SimulationOptions o = ParseGapFile(IniFile::Parse(text, "lens.ini"));
   EXPECT_DOUBLE_EQ(o.gap.part_radius_m, 0.25);
   EXPECT_TRUE(std::isinf(o.gap.plate_radius_m));
@@ -367,21 +367,21 @@ TEST(GapFile, ParsesEveryKeyAndPointsAtBadLines) {
     }
     return std::string("accepted");
   };
-  EXPECT_NE(message("[gap]\npart_radius = 250\n").find("bad.ini:2"),
+  EXPECT_NE(message("[gap]\npart-radius = 250\n").find("bad.ini:2"),
             std::string::npos);
-  EXPECT_NE(message("[camera]\nwidth_px = 100\nsensor = x\n")
+  EXPECT_NE(message("[camera]\nwidth-px = 100\nsensor = x\n")
                 .find("bad.ini:3: unknown key 'sensor'"),
             std::string::npos);
   EXPECT_NE(message("[optics]\na = 1\n").find("unknown section"),
             std::string::npos);
-  EXPECT_NE(message("[camera]\nbit_depth = 12\n")
-                .find("bad.ini:2: [camera] bit_depth"),
+  EXPECT_NE(message("[camera]\nbit-depth = 12\n")
+                .find("bad.ini:2: [camera] bit-depth"),
             std::string::npos);
   EXPECT_NE(message("[zernike]\nz200 = 1nm\n").find("bad.ini:2"),
             std::string::npos);
-  EXPECT_NE(message("[gap]\npart_radius = 1mm\n").find("[gap] part_radius"),
+  EXPECT_NE(message("[gap]\npart-radius = 1mm\n").find("[gap] part-radius"),
             std::string::npos);
-  EXPECT_NE(message("[gap]\npart_radius = 100mm\nplate_radius = -90mm\n")
+  EXPECT_NE(message("[gap]\npart-radius = 100mm\nplate-radius = -90mm\n")
                 .find("contact = edge"),
             std::string::npos);
 }
