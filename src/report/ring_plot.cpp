@@ -31,6 +31,26 @@ std::string Tick(double v) {
   return buf;
 }
 
+// Round tick values (1, 2 or 5 times a power of ten apart, about five of
+// them) within [lo, hi].
+std::vector<double> NiceTicks(double lo, double hi) {
+  std::vector<double> ticks;
+  const double span = hi - lo;
+  if (!(span > 0.0) || !std::isfinite(span)) return ticks;
+  const double raw = span / 5.0;
+  const double decade = std::pow(10.0, std::floor(std::log10(raw)));
+  double step = decade;
+  for (const double m : {1.0, 2.0, 5.0, 10.0}) {
+    step = m * decade;
+    if (step >= raw) break;
+  }
+  for (double v = std::ceil(lo / step) * step; v <= hi + 1e-9 * step;
+       v += step) {
+    ticks.push_back(std::abs(v) < 1e-9 * step ? 0.0 : v);
+  }
+  return ticks;
+}
+
 // Axis range with a margin, never empty.
 void Range(const std::vector<double>& v, double* lo, double* hi) {
   *lo = std::numeric_limits<double>::infinity();
@@ -75,10 +95,10 @@ void Frame(cairo_t* cr, const Panel& p, const std::string& xlabel,
   cairo_rectangle(cr, p.x0, p.y0, p.w, p.h);
   cairo_stroke(cr);
   cairo_set_font_size(cr, 11.0);
-  for (int i = 0; i <= 4; ++i) {
-    const double xv = p.xlo + (p.xhi - p.xlo) * i / 4.0;
-    const double yv = p.ylo + (p.yhi - p.ylo) * i / 4.0;
+  for (const double xv : NiceTicks(p.xlo, p.xhi)) {
     Text(cr, p.X(xv), p.y0 + p.h + 14.0, Tick(xv), 0.5);
+  }
+  for (const double yv : NiceTicks(p.ylo, p.yhi)) {
     Text(cr, p.x0 - 6.0, p.Y(yv) + 4.0, Tick(yv), 1.0);
   }
   cairo_set_font_size(cr, 12.0);
@@ -127,7 +147,7 @@ void Draw(cairo_t* cr, const Series& s, const RingsResult& r,
   }
   Text(cr, top.x0, 30.0, t);
   const char* unit = r.from_diameters ? "um" : "px";
-  Frame(cr, top, "", "r^2 (mm^2)");
+  Frame(cr, top, "", "r\u00B2 (mm\u00B2)");
   Frame(cr, bottom, "fringe order (relative, dark at integer + d)",
         std::string("residual (") + unit + ")");
 
