@@ -77,15 +77,27 @@ void Taps(int full, int reduced, int scale, std::vector<int>& index,
   }
 }
 
-// Bilinear value of a reduced map at a full-resolution pixel.
-inline float Lookup(const cv::Mat& map, int ky, float fy, int kx, float fx) {
+// One full-resolution row y of a reduced map, interpolated bilinearly:
+// first between the two reduced rows (weight fy), then along x, into `out`
+// (image.cols values; only [x0, x1] are needed by the callers).
+void InterpolateRow(const cv::Mat& map, int ky, float fy,
+                    const std::vector<int>& kx, const std::vector<float>& fx,
+                    int x0, int x1, std::vector<float>& between,
+                    std::vector<float>& out) {
   const int ky1 = std::min(ky + 1, map.rows - 1);
-  const int kx1 = std::min(kx + 1, map.cols - 1);
   const float* r0 = map.ptr<float>(ky);
   const float* r1 = map.ptr<float>(ky1);
-  const float top = r0[kx] + fx * (r0[kx1] - r0[kx]);
-  const float bottom = r1[kx] + fx * (r1[kx1] - r1[kx]);
-  return top + fy * (bottom - top);
+  between.resize(static_cast<std::size_t>(map.cols) + 1);
+  for (int k = 0; k < map.cols; ++k) {
+    between[static_cast<std::size_t>(k)] = r0[k] + fy * (r1[k] - r0[k]);
+  }
+  between[static_cast<std::size_t>(map.cols)] =
+      between[static_cast<std::size_t>(map.cols) - 1];
+  for (int x = x0; x <= x1; ++x) {
+    const auto xi = static_cast<std::size_t>(x);
+    const auto k = static_cast<std::size_t>(kx[xi]);
+    out[xi] = between[k] + fx[xi] * (between[k + 1] - between[k]);
+  }
 }
 
 }  // namespace
@@ -153,6 +165,8 @@ FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
   cv::Mat power = cv::Mat::zeros(rows, cols, CV_32FC1);
   cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
     std::vector<double> acc(static_cast<std::size_t>(cols));
+    std::vector<float> between;
+    std::vector<float> mean_row(static_cast<std::size_t>(image.cols));
     for (int by = range.start; by < range.end; ++by) {
       std::fill(acc.begin(), acc.end(), 0.0);
       for (int y = by * scale; y < std::min(image.rows, (by + 1) * scale);
@@ -160,13 +174,22 @@ FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
         int x0 = 0;
         int x1 = -1;
         RowSpan(region, y, image.cols, x0, x1);
+        if (x1 < x0) continue;
         const float* row = image.ptr<float>(y);
         const auto yi = static_cast<std::size_t>(y);
-        for (int x = x0; x <= x1; ++x) {
-          const auto xi = static_cast<std::size_t>(x);
-          const double d = static_cast<double>(
-              row[x] - Lookup(out.mean, ky[yi], fy[yi], kx[xi], fx[xi]));
-          acc[static_cast<std::size_t>(x / scale)] += d * d;
+        InterpolateRow(out.mean, ky[yi], fy[yi], kx, fx, x0, x1, between,
+                       mean_row);
+        // Block by block: a float partial sum per block row segment.
+        for (int bx = x0 / scale; bx <= x1 / scale; ++bx) {
+          const int xa = std::max(x0, bx * scale);
+          const int xb = std::min(x1, (bx + 1) * scale - 1);
+          double part = 0.0;
+          for (int x = xa; x <= xb; ++x) {
+            const double d = static_cast<double>(
+                row[x] - mean_row[static_cast<std::size_t>(x)]);
+            part += d * d;
+          }
+          acc[static_cast<std::size_t>(bx)] += part;
         }
       }
       float* p = power.ptr<float>(by);
@@ -184,18 +207,24 @@ FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
   // Pass 3: the normalised image.
   out.normalised = cv::Mat::zeros(image.size(), CV_32FC1);
   cv::parallel_for_(cv::Range(0, image.rows), [&](const cv::Range& range) {
+    std::vector<float> between;
+    std::vector<float> mean_row(static_cast<std::size_t>(image.cols));
+    std::vector<float> amplitude_row(static_cast<std::size_t>(image.cols));
     for (int y = range.start; y < range.end; ++y) {
       int x0 = 0;
       int x1 = -1;
       RowSpan(region, y, image.cols, x0, x1);
+      if (x1 < x0) continue;
       const float* row = image.ptr<float>(y);
       float* dst = out.normalised.ptr<float>(y);
       const auto yi = static_cast<std::size_t>(y);
+      InterpolateRow(out.mean, ky[yi], fy[yi], kx, fx, x0, x1, between,
+                     mean_row);
+      InterpolateRow(out.amplitude, ky[yi], fy[yi], kx, fx, x0, x1, between,
+                     amplitude_row);
       for (int x = x0; x <= x1; ++x) {
         const auto xi = static_cast<std::size_t>(x);
-        const float m = Lookup(out.mean, ky[yi], fy[yi], kx[xi], fx[xi]);
-        const float a = Lookup(out.amplitude, ky[yi], fy[yi], kx[xi], fx[xi]);
-        dst[x] = (row[x] - m) / std::max(a, floor);
+        dst[x] = (row[x] - mean_row[xi]) / std::max(amplitude_row[xi], floor);
       }
     }
   });

@@ -7,6 +7,7 @@
 #include <limits>
 #include <map>
 #include <numbers>
+#include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
 #include <vector>
 
@@ -229,15 +230,18 @@ CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
   const auto solver = design.colPivHouseholderQr();
   while (step >= stop_step_px) {
     Eigen::Matrix<double, 9, 1> f;
-    int row = 0;
-    int best = 4;
-    for (int j = -1; j <= 1; ++j) {
-      for (int i = -1; i <= 1; ++i) {
+    // The nine evaluations are independent: run them in parallel.
+    cv::parallel_for_(cv::Range(0, 9), [&](const cv::Range& range) {
+      for (int row = range.start; row < range.end; ++row) {
+        const int i = row % 3 - 1;
+        const int j = row / 3 - 1;
         f(row) = ProfileSharpness(
             samples, centre + cv::Point2d(i * step, j * step), period_r2_px2);
-        if (f(row) > f(best)) best = row;
-        ++row;
       }
+    });
+    int best = 4;
+    for (int row = 0; row < 9; ++row) {
+      if (f(row) > f(best)) best = row;
     }
     out.evaluations += 9;
     const Eigen::Matrix<double, 6, 1> q = solver.solve(f);

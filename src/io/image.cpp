@@ -2,6 +2,7 @@
 
 #include <cassert>
 #include <climits>
+#include <future>
 #include <opencv2/imgcodecs.hpp>
 
 #include "core/error.h"
@@ -79,6 +80,9 @@ Image LoadImage(const std::filesystem::path& path, const LoadOptions& options) {
   const FileSource file(path, options.max_file_bytes);
   const std::string bytes = file.ReadAll();
   const MemorySource source(file.Name(), bytes);
+  // The hash runs beside the decode (both only read `bytes`).
+  std::future<std::string> digest =
+      std::async(std::launch::async, [&bytes] { return Sha256Hex(bytes); });
   Image image;
   image.info.path = file.Name();
   const ImageFormat format = DetectImageFormat(source);
@@ -95,7 +99,7 @@ Image LoadImage(const std::filesystem::path& path, const LoadOptions& options) {
     image.info.full_scale = decoded.depth() == CV_16U ? 65535.0 : 255.0;
     image.pixels = LuminanceFromBgr(decoded);
   }
-  image.info.sha256 = Sha256Hex(bytes);
+  image.info.sha256 = digest.get();
   assert(image.pixels.type() == CV_32FC1);
   return image;
 }

@@ -1,0 +1,325 @@
+// Ring-analysis speed benchmark (issue "ring analysis: Speed"). Renders a
+// 12-megapixel (4000 x 3000) 16-bit TIFF of Newton's rings with the
+// simulator (lens on a flat, ~100 rings, blur, shot and read noise,
+// fall-off), then times in the same run:
+//   (a) LoadImage alone (read, hash, decode, convert to float),
+//   (b) the analysis alone (AnalyseRings on the loaded image, in process),
+//   (c) the whole `figura rings` command (spawned; wall time and peak RSS),
+//   (d) the numpy/scipy peer ../shared/peers/rings_peer.py (spawned).
+// Prints the ratios against the issue's targets and both radius errors
+// against the truth file. Times are the minimum over repetitions (the
+// machine is shared and noisy: the minimum is the least disturbed run
+// [practice]); medians are printed beside them.
+//
+// Usage: figura_bench_rings [--reps N] [--dir FOLDER] [--no-peer]
+//                           [--size WxH]
+#include <sys/resource.h>
+#include <sys/time.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <array>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <optional>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "core/error.h"
+#include "core/light_source.h"
+#include "core/quantity.h"
+#include "fringe/ring_analysis.h"
+#include "io/image.h"
+#include "optics/media.h"
+#include "sim/simulation.h"
+
+extern char** environ;  // NOLINT(readability-redundant-declaration)
+
+namespace {
+
+namespace fs = std::filesystem;
+using Clock = std::chrono::steady_clock;
+
+// Invented scene: a 1500 mm plano-convex lens on a flat, 18 mm aperture at
+// 6.5 um per pixel (about 2770 px across), mercury green line. Rings in the
+// aperture: a^2 / (lambda R) = 81 mm^2 / 0.819 mm^2 = ~99.
+constexpr double kPixelPitchUm = 6.5;
+constexpr double kWavelengthNm = 546.074;  // mercury e line in air [memory]
+
+// The scene as simulator options (built in code, not as a gap file, so that
+// the benchmark does not depend on the gap-file spelling).
+figura::SimulationOptions Scene(int width, int height) {
+  figura::SimulationOptions o;
+  o.gap.part_radius_m = 1.5;
+  o.gap.plate_radius_m = figura::GapOptions::kFlat;
+  o.stack = figura::MediaStack{1.5168, 1.0, 1.5168};
+  o.view = figura::View::kReflected;
+  o.wavelength =
+      figura::ResolveWavelength("mercury-e", figura::SourceTable::Default());
+  // Scale the aperture with the image so that a --size run keeps the
+  // fringe density (about 0.92 of the image height).
+  o.aperture_diameter_m = 18e-3 * height / 3000.0;
+  o.centre_x_px = (width - 1) / 2.0 + 37.25;
+  o.centre_y_px = (height - 1) / 2.0 - 21.5;
+  o.camera.width_px = width;
+  o.camera.height_px = height;
+  o.camera.pixel_pitch_m = kPixelPitchUm * 1e-6;
+  o.camera.blur_sigma_px = 0.8;
+  o.camera.falloff = 0.2;
+  o.camera.background = 0.02;
+  o.camera.surround = 0.03;
+  o.camera.exposure = 0.8;
+  o.camera.full_well_e = 20000.0;
+  o.camera.read_noise_e = 5.0;
+  o.camera.bit_depth = 16;
+  o.seed = 20261202;
+  o.origin = "figura_bench_rings";
+  return o;
+}
+
+double Seconds(Clock::time_point a, Clock::time_point b) {
+  return std::chrono::duration<double>(b - a).count();
+}
+
+double Min(std::vector<double> v) {
+  return *std::min_element(v.begin(), v.end());
+}
+
+double Median(std::vector<double> v) {
+  std::sort(v.begin(), v.end());
+  const std::size_t n = v.size();
+  return n % 2 == 1 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+std::string ReadAll(const fs::path& path) {
+  std::ifstream in(path);
+  std::stringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+// One spawned process: wall seconds, peak resident set (MB), exit code.
+struct ChildRun {
+  double seconds = 0.0;
+  double peak_mb = 0.0;
+  int exit_code = -1;
+};
+
+// Runs argv with stdout to `out_path` and stderr to `err_path`; env entries
+// in `unset` are removed from the child's environment only.
+ChildRun Spawn(const std::vector<std::string>& argv, const fs::path& out_path,
+               const fs::path& err_path,
+               const std::vector<std::string>& unset = {}) {
+  std::vector<std::string> env;
+  for (char** e = environ; *e != nullptr; ++e) {
+    const std::string entry(*e);
+    const std::string key = entry.substr(0, entry.find('='));
+    if (std::find(unset.begin(), unset.end(), key) == unset.end())
+      env.push_back(entry);
+  }
+  std::vector<char*> cargv;
+  std::vector<char*> cenv;
+  for (const auto& a : argv) cargv.push_back(const_cast<char*>(a.c_str()));
+  cargv.push_back(nullptr);
+  for (const auto& e : env) cenv.push_back(const_cast<char*>(e.c_str()));
+  cenv.push_back(nullptr);
+
+  ChildRun run;
+  std::fflush(nullptr);  // no buffered output duplicated into the child
+  const auto t0 = Clock::now();
+  const pid_t pid = fork();
+  if (pid == 0) {
+    if (std::freopen(out_path.c_str(), "w", stdout) == nullptr ||
+        std::freopen(err_path.c_str(), "w", stderr) == nullptr)
+      _exit(127);
+    execve(cargv[0], cargv.data(), cenv.data());
+    _exit(127);
+  }
+  if (pid < 0) return run;
+  int status = 0;
+  rusage usage{};
+  wait4(pid, &status, 0, &usage);
+  run.seconds = Seconds(t0, Clock::now());
+  run.peak_mb = static_cast<double>(usage.ru_maxrss) / 1024.0;  // KiB on Linux
+  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  return run;
+}
+
+void PrintRow(const char* what, double value, const char* target, bool ok) {
+  std::printf("  %-34s %10.3f   %-10s %s\n", what, value, target,
+              ok ? "met" : "NOT met");
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  int reps = 3;
+  fs::path dir = fs::path(FIGURA_BENCH_TMP) / "bench_rings";
+  bool peer = true;
+  int width = 4000;
+  int height = 3000;
+  for (int i = 1; i < argc; ++i) {
+    const std::string a = argv[i];
+    if (a == "--reps" && i + 1 < argc) {
+      reps = std::max(1, std::atoi(argv[++i]));
+    } else if (a == "--dir" && i + 1 < argc) {
+      dir = argv[++i];
+    } else if (a == "--no-peer") {
+      peer = false;
+    } else if (a == "--size" && i + 1 < argc) {
+      if (std::sscanf(argv[++i], "%dx%d", &width, &height) != 2) {
+        std::fprintf(stderr, "--size: expected WxH, e.g. 4000x3000\n");
+        return 2;
+      }
+    } else {
+      std::fprintf(stderr,
+                   "usage: figura_bench_rings [--reps N] [--dir FOLDER] "
+                   "[--no-peer] [--size WxH]\n");
+      return 2;
+    }
+  }
+  try {
+    fs::create_directories(dir);
+    const fs::path image_path = dir / "bench_lens.tif";
+
+    // Render once per run (the same seed gives the same photograph).
+    const auto r0 = Clock::now();
+    const figura::SimulationOptions sim = Scene(width, height);
+    const figura::SimulationResult rendered = figura::Simulate(sim);
+    figura::WriteSimulation(rendered, image_path, sim.camera);
+    const auto truth = nlohmann::json::parse(
+        ReadAll(figura::TruthPathFor(image_path)))["truth"];
+    const double true_r_mm = truth["part_radius_mm"].get<double>();
+    std::printf("rendered %dx%d 16-bit TIFF in %.1f s: %s (%.1f MB)\n", width,
+                height, Seconds(r0, Clock::now()), image_path.c_str(),
+                static_cast<double>(fs::file_size(image_path)) / 1e6);
+    std::printf("true R = %.4f mm, min fringe period %.2f px\n", true_r_mm,
+                rendered.min_fringe_period_px);
+
+    // Options as `figura rings --wavelength mercury-e --pixel-pitch 6.5um`
+    // (defaults for everything else, the media stack of the gap file).
+    figura::RingsOptions options;
+    options.fit.wavelength = sim.wavelength;
+    options.fit.pixel_pitch = figura::Length::Micrometres(kPixelPitchUm);
+    options.fit.stack = sim.stack;
+    options.fit.view = sim.view;
+
+    std::vector<double> decode;
+    std::vector<double> analysis;
+    std::vector<double> command;
+    std::vector<double> peer_s;
+    std::vector<double> peak;
+    double our_r = std::nan("");
+    double peer_r = std::nan("");
+    double analysis_r = std::nan("");
+    const fs::path peer_script =
+        fs::path(FIGURA_SOURCE_DIR) / ".." / "shared/peers/rings_peer.py";
+    const bool have_peer =
+        peer && fs::exists(peer_script) && fs::exists("/usr/bin/python3");
+    if (peer && !have_peer)
+      std::printf("peer skipped: %s or /usr/bin/python3 not found\n",
+                  peer_script.c_str());
+
+    for (int rep = 0; rep < reps; ++rep) {
+      auto t0 = Clock::now();
+      const figura::Image image = figura::LoadImage(image_path);
+      auto t1 = Clock::now();
+      const figura::RingsResult result = figura::AnalyseRings(image, options);
+      auto t2 = Clock::now();
+      decode.push_back(Seconds(t0, t1));
+      analysis.push_back(Seconds(t1, t2));
+      if (result.status == figura::Status::kError) {
+        std::printf("analysis failed:");
+        for (const auto& m : result.messages) std::printf(" %s;", m.c_str());
+        std::printf("\n");
+      } else {
+        analysis_r = result.fit.radius_m * 1e3;
+      }
+
+      const fs::path json = dir / "figura.json";
+      const ChildRun ours = Spawn(
+          {FIGURA_BINARY, "rings", image_path.string(), "--wavelength",
+           "mercury-e", "--pixel-pitch", "6.5um", "--json", json.string()},
+          dir / "figura.out", dir / "figura.err");
+      if (ours.exit_code != 0) {
+        std::printf("figura rings exit %d: %s\n", ours.exit_code,
+                    ReadAll(dir / "figura.err").c_str());
+        return 1;
+      }
+      command.push_back(ours.seconds);
+      peak.push_back(ours.peak_mb);
+      our_r = nlohmann::json::parse(ReadAll(json))["radius_of_curvature_mm"]
+                  .get<double>();
+
+      if (have_peer) {
+        // The peer runs with the distribution's numpy and OpenBLAS defaults:
+        // these two tuning variables must be unset together
+        // (../shared/libraries.md).
+        const ChildRun theirs =
+            Spawn({"/usr/bin/python3", peer_script.string(),
+                   image_path.string(), std::to_string(kWavelengthNm),
+                   std::to_string(kPixelPitchUm * 1e-3)},
+                  dir / "peer.out", dir / "peer.err",
+                  {"OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE"});
+        if (theirs.exit_code != 0) {
+          std::printf("peer exit %d: %s\n", theirs.exit_code,
+                      ReadAll(dir / "peer.err").c_str());
+        } else {
+          peer_s.push_back(theirs.seconds);
+          peer_r = nlohmann::json::parse(
+                       ReadAll(dir / "peer.out"))["radius_of_curvature_mm"]
+                       .get<double>();
+        }
+      }
+      std::printf(
+          "rep %d: decode %.3f s, analysis %.3f s, command %.3f s (%.0f MB)"
+          "%s\n",
+          rep + 1, decode.back(), analysis.back(), command.back(), peak.back(),
+          peer_s.empty()
+              ? ""
+              : (", peer " + std::to_string(peer_s.back()) + " s").c_str());
+    }
+
+    std::printf("\nminimum (median) over %d runs, seconds:\n", reps);
+    std::printf("  decode   %.3f (%.3f)\n", Min(decode), Median(decode));
+    std::printf("  analysis %.3f (%.3f)\n", Min(analysis), Median(analysis));
+    std::printf("  command  %.3f (%.3f)\n", Min(command), Median(command));
+    if (!peer_s.empty())
+      std::printf("  peer     %.3f (%.3f)\n", Min(peer_s), Median(peer_s));
+
+    std::printf("\n  %-34s %10s   %-10s\n", "ratio", "value", "target");
+    const double a_over_d = Min(analysis) / Min(decode);
+    PrintRow("analysis / decode", a_over_d, "<= 1", a_over_d <= 1.0);
+    bool all = a_over_d <= 1.0;
+    if (!peer_s.empty()) {
+      const double p_over_c = Min(peer_s) / Min(command);
+      PrintRow("peer / command", p_over_c, ">= 10", p_over_c >= 10.0);
+      all = all && p_over_c >= 10.0;
+    }
+    const double peak_mb = *std::max_element(peak.begin(), peak.end());
+    PrintRow("peak memory of command (MB)", peak_mb, "< 400", peak_mb < 400.0);
+    all = all && peak_mb < 400.0;
+
+    std::printf("\n  R error vs truth (%.4f mm):\n", true_r_mm);
+    std::printf("    figura rings  %+.4f %%  (in-process %+.4f %%)\n",
+                100.0 * (our_r / true_r_mm - 1.0),
+                100.0 * (analysis_r / true_r_mm - 1.0));
+    if (!peer_s.empty())
+      std::printf("    peer          %+.4f %%\n",
+                  100.0 * (peer_r / true_r_mm - 1.0));
+    std::printf("\n%s\n",
+                all ? "all speed targets met" : "some speed targets not met");
+    return 0;
+  } catch (const std::exception& e) {
+    std::fprintf(stderr, "figura_bench_rings: %s\n", e.what());
+    return 1;
+  }
+}
