@@ -70,6 +70,7 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
     return out;
   }
   RingFitOptions fit_options = options.fit;
+  fit_options.detected_points = true;
   if (!fit_options.aperture_diameter) {
     fit_options.aperture_diameter =
         Length::Metres(2.0 * out.detection.aperture_radius_px *
@@ -185,6 +186,7 @@ nlohmann::json RingsJson(const RingsResult& r, const RingsOptions& options,
   j["coverage_factor"] = f.coverage_factor;
   j["uncertainty_method"] = f.uncertainty_note;
   j["uncertainty_budget_relative"] = {{"fit", f.u_rel_fit},
+                                      {"ring_detection", f.u_rel_detection},
                                       {"pixel_pitch", f.u_rel_pitch},
                                       {"wavelength", f.u_rel_wavelength},
                                       {"reference_radius", f.u_rel_reference}};

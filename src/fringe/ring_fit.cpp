@@ -434,7 +434,11 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   Mat cov = c0;
   std::string method;
   if (dof > 0) {
-    if (options.point_sigmas_known) {
+    if (options.detected_points) {
+      cov = c0 * out.chi2_reduced;
+      method = "fit covariance from the residual scatter (reduced chi-square " +
+               Format(out.chi2_reduced, 3) + " of the detection's sigmas)";
+    } else if (options.point_sigmas_known) {
       if (out.chi2_reduced > 1.0) {
         cov = c0 * out.chi2_reduced;
         method = "fit covariance scaled by the reduced chi-square " +
@@ -524,8 +528,18 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   // Uncertainties.
   const bool has_u = dof > 0;
   out.has_uncertainty = has_u;
-  const double u_rel_fit =
+  double u_rel_fit =
       has_u ? Propagate(mean_curv, par, cov) / std::abs(a_mean) : 0.0;
+  double u_rel_det = 0.0;
+  if (has_u && options.detected_points) {
+    const double period_px2 = scale * scale / std::abs(a_mean);
+    const double fringes = r_max_px * r_max_px / period_px2;
+    u_rel_det = kDetectionFewFringes / (fringes * fringes * fringes) +
+                kDetectionShortPeriod / (period_px2 * period_px2);
+    method += "; ring-detection systematic (Type B, simulation study)";
+  }
+  const double u_rel_fit_only = u_rel_fit;
+  u_rel_fit = std::hypot(u_rel_fit, u_rel_det);
   const double u_rel_pitch = 2.0 * options.pixel_pitch_u.metres / pitch;
   const double u_rel_lambda = options.wavelength.uncertainty.metres / lambda;
   const double u_gap_rel =
@@ -538,7 +552,8 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   const double u_from_ref = dr_dref * options.reference_radius_u.metres;
   const double u_r = std::hypot(u_from_gap, u_from_ref);
   const double abs_r = std::abs(r_part);
-  out.u_rel_fit = dr_dgap * std::abs(gap_radius) * u_rel_fit / abs_r;
+  out.u_rel_fit = dr_dgap * std::abs(gap_radius) * u_rel_fit_only / abs_r;
+  out.u_rel_detection = dr_dgap * std::abs(gap_radius) * u_rel_det / abs_r;
   out.u_rel_pitch = dr_dgap * std::abs(gap_radius) * u_rel_pitch / abs_r;
   out.u_rel_wavelength = dr_dgap * std::abs(gap_radius) * u_rel_lambda / abs_r;
   out.u_rel_reference = u_from_ref / abs_r;
@@ -595,6 +610,12 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
       const double ux = Propagate(cx, par, cov) * scale;
       const double uy = Propagate(cy, par, cov) * scale;
       out.centre_u_px = std::sqrt(0.5 * (ux * ux + uy * uy));
+      if (options.detected_points) {
+        const double period_px2 = scale * scale / std::abs(a_mean);
+        const double fringes = r_max_px * r_max_px / period_px2;
+        out.centre_u_px =
+            std::hypot(out.centre_u_px, kDetectionCentrePx / fringes);
+      }
     }
   }
 

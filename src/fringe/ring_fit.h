@@ -77,6 +77,13 @@ struct RingFitOptions {
   // exceeds 1. False (measured diameters without stated uncertainties):
   // equal weights in radius, covariance scaled by the residual scatter.
   bool point_sigmas_known = true;
+  // True when the points were located by ring detection in a photograph
+  // (AnalyseRings). Then (1) the detection's point sigmas serve as relative
+  // weights and the covariance follows the residual scatter (reduced
+  // chi-square scaling in both directions; the sigmas were measured to be
+  // about twice the real scatter), and (2) a Type B ring-detection
+  // systematic term u_rel_detection (see RingFitResult) enters the budget.
+  bool detected_points = false;
 
   // An empty string when usable, otherwise a readable reason.
   [[nodiscard]] std::string Check() const;
@@ -118,6 +125,18 @@ struct RingFitResult {
   // Budget: relative standard uncertainty contributions of R.
   double u_rel_fit = 0.0, u_rel_pitch = 0.0, u_rel_wavelength = 0.0,
          u_rel_reference = 0.0;
+  // Type B relative standard uncertainty of the ring-detection systematic
+  // (detected_points only; 0 otherwise), a bias of the located fringe
+  // centres that grows with few fringes (residual illumination fall-off
+  // and blur in the extremum fits) and with short fringe periods (blur
+  // changes the phase curvature of a quadratic-phase signal by
+  // 1/(1 + 4 c^2 sigma^4), c = 2 pi / P; Gaussian-beam algebra, e.g.
+  // Goodman, Introduction to Fourier Optics, ch. 4). Modelled as
+  //   kDetectionFewFringes / N^3 + kDetectionShortPeriod / P^2,
+  // N fringes over the evaluated aperture, P the period in r^2 (px^2);
+  // constants from a simulation study (tests/fringe/ring_accuracy_test.cpp,
+  // tuning seeds only).
+  double u_rel_detection = 0.0;
 
   // Radius of the gap's paraxial curvature (1/R_gap = 1/R + 1/R_plate).
   double gap_radius_m = 0.0;
@@ -168,6 +187,14 @@ struct RingFitResult {
   double centre_value = 0.0;
   double contact_sign = 1.0;
 };
+
+// Constants of the ring-detection systematic (RingFitResult::u_rel_detection).
+inline constexpr double kDetectionFewFringes = 0.2;    // relative * N^3
+inline constexpr double kDetectionShortPeriod = 50.0;  // relative * px^4
+// Type B ring-detection systematic of each centre coordinate (px), divided
+// by the number of fringes N (same study): added in quadrature to the fit's
+// centre uncertainty when detected_points.
+inline constexpr double kDetectionCentrePx = 0.08;  // px * N
 
 // Fits the ring model. `centre_guess_px` anchors the coordinates (and is the
 // fixed centre of the isotropic models). Throws InputError for invalid

@@ -1,0 +1,369 @@
+// Accuracy and uncertainty of the whole ring analysis (AnalyseRings:
+// detection + model fit) on photographs from the project's simulator
+// (sim/simulation.h), in process. External checks:
+//  - the sim truth: radius and fringe centre of the exact gap (exact sphere
+//    sags, optics/sphere.h), independent of the analysis's model;
+//  - the Newton's-ring law r_k^2 = k lambda R / n_gap (Hecht, Optics, sec.
+//    9.4; ../shared/references.md) fixes what the photographs show;
+//  - the GUM (JCGM 100:2008, sec. 6.2-6.3): an expanded uncertainty with
+//    k = 2 should cover the true value in about 95 % of cases; we demand
+//    >= 90 % over 50 random cases [practice: coverage test of an
+//    uncertainty evaluation by simulation, as in JCGM 101:2008, sec. 8].
+// The seeds judged here were never used for tuning: tuning used the
+// DISABLED_ tuning test below (master seed kTuningSeed).
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdint>
+#include <iostream>
+#include <limits>
+#include <opencv2/imgcodecs.hpp>
+#include <optional>
+#include <random>
+#include <string>
+#include <vector>
+
+#include "fringe/ring_analysis.h"
+#include "sim/simulation.h"
+
+namespace figura {
+namespace {
+
+constexpr double kInf = std::numeric_limits<double>::infinity();
+constexpr double kHgE = 546.074e-9;  // mercury e line (references.md)
+
+// How a simulated photo is stored before analysis.
+enum class Storage { kRaw, kJpeg };
+
+struct Outcome {
+  RingsResult result;
+  double true_radius_m = 0.0;  // the part radius of the simulation
+  double true_cx = 0.0, true_cy = 0.0;
+  double rel_error = 0.0;     // (R - R_true) / R_true
+  double centre_error = 0.0;  // px, Euclidean
+};
+
+// A base scene: a lens on a flat, 600 x 600, mercury e, 16-bit.
+SimulationOptions BaseScene() {
+  SimulationOptions sim;
+  sim.gap.part_radius_m = 2.0;
+  sim.gap.plate_radius_m = kInf;
+  sim.wavelength = Wavelength{Length::Metres(kHgE), {}, {}, {}, {}};
+  sim.camera.width_px = 600;
+  sim.camera.height_px = 600;
+  sim.camera.pixel_pitch_m = 20e-6;
+  sim.aperture_diameter_m = 520 * 20e-6;
+  sim.camera.blur_sigma_px = 0.8;
+  sim.camera.falloff = 0.2;
+  sim.camera.background = 0.02;
+  sim.camera.full_well_e = 20000;
+  sim.camera.read_noise_e = 5;
+  sim.gap.contact_offset_m = 60e-9;  // dust at the contact
+  return sim;
+}
+
+// The analysis settings that match a simulation (the user types the
+// wavelength, pixel pitch, media and view of the photo).
+RingsOptions OptionsFor(const SimulationOptions& sim) {
+  RingsOptions options;
+  options.fit.wavelength =
+      Wavelength{Length::Metres(kHgE), Length::Metres(0.0), {}, {}, {}};
+  options.fit.pixel_pitch = Length::Metres(sim.camera.pixel_pitch_m);
+  options.fit.pixel_pitch_u = Length::Metres(0.0);
+  options.fit.stack = sim.stack;
+  options.fit.view = sim.view;
+  return options;
+}
+
+Image ToImage(const SimulationResult& photo, const SimulationOptions& sim,
+              Storage storage) {
+  Image image;
+  cv::Mat stored = photo.image;
+  if (storage == Storage::kJpeg) {
+    std::vector<unsigned char> bytes;
+    cv::imencode(".jpg", photo.image, bytes,
+                 {cv::IMWRITE_JPEG_QUALITY, sim.camera.jpeg_quality});
+    stored = cv::imdecode(bytes, cv::IMREAD_GRAYSCALE);
+  }
+  stored.convertTo(image.pixels, CV_32F);
+  image.info.width = stored.cols;
+  image.info.height = stored.rows;
+  image.info.channels = 1;
+  image.info.bit_depth = sim.camera.bit_depth;
+  image.info.full_scale = sim.camera.bit_depth == 8 ? 255.0 : 65535.0;
+  image.info.format = storage == Storage::kJpeg ? "jpeg" : "tiff";
+  return image;
+}
+
+Outcome SimulateAndAnalyse(const SimulationOptions& sim,
+                           const RingsOptions& options,
+                           Storage storage = Storage::kRaw) {
+  const SimulationResult photo = Simulate(sim);
+  EXPECT_EQ(photo.status, Status::kOk);
+  Outcome out;
+  out.result = AnalyseRings(ToImage(photo, sim, storage), options);
+  out.true_radius_m = sim.gap.part_radius_m;
+  const auto& centre = photo.truth["truth"]["fringe_centre_px"];
+  out.true_cx = centre[0].get<double>();
+  out.true_cy = centre[1].get<double>();
+  if (out.result.status != Status::kError) {
+    const RingFitResult& fit = out.result.fit;
+    const double r = fit.test_plate ? fit.part_radius_m : fit.radius_m;
+    out.rel_error = (r - out.true_radius_m) / out.true_radius_m;
+    out.centre_error = std::hypot(fit.centre_px.x - out.true_cx,
+                                  fit.centre_px.y - out.true_cy);
+  }
+  return out;
+}
+
+double U95Relative(const Outcome& o) {
+  const RingFitResult& f = o.result.fit;
+  return (f.test_plate ? f.part_radius_u95_m : f.radius_u95_m) /
+         std::abs(o.true_radius_m);
+}
+
+void Report(const std::string& name, const Outcome& o) {
+  const RingFitResult& f = o.result.fit;
+  const double u95 = U95Relative(o) * std::abs(o.true_radius_m);
+  std::cout << "[accuracy] " << name << ": R error " << 100.0 * o.rel_error
+            << " %, U95 " << 100.0 * u95 / std::abs(o.true_radius_m)
+            << " %, centre error " << o.centre_error << " px, rings "
+            << f.ring_count << ", chi2/dof " << f.chi2_reduced << "\n";
+  testing::Test::RecordProperty(name + "_error_percent",
+                                std::to_string(100.0 * o.rel_error));
+}
+
+// --- Accuracy targets of the issue --------------------------------------
+
+TEST(RingAccuracy, Reflected16BitBlurNoiseVignettingDust) {
+  SimulationOptions sim = BaseScene();
+  sim.seed = 9101;
+  sim.centre_x_px = 296.4;
+  sim.centre_y_px = 305.8;
+  sim.gap.contact_x_m = 0.31e-3;
+  sim.gap.contact_y_m = -0.17e-3;
+  const Outcome o = SimulateAndAnalyse(sim, OptionsFor(sim));
+  ASSERT_NE(o.result.status, Status::kError) << o.result.messages.back();
+  Report("reflected_16bit", o);
+  // Issue target: 0.05 % on 16-bit photos; truth from exact sags.
+  EXPECT_LT(std::abs(o.rel_error), 5e-4);
+  EXPECT_LT(o.centre_error, 0.2);
+  EXPECT_LE(std::abs(o.rel_error), U95Relative(o));  // GUM k = 2
+}
+
+TEST(RingAccuracy, Jpeg8BitGamma) {
+  SimulationOptions sim = BaseScene();
+  sim.seed = 9102;
+  sim.camera.bit_depth = 8;
+  sim.camera.gamma = 1.0 / 2.2;  // display gamma 2.2: stored = level^(1/2.2)
+  sim.camera.jpeg_quality = 90;
+  sim.gap.contact_x_m = -0.22e-3;
+  const Outcome o = SimulateAndAnalyse(sim, OptionsFor(sim), Storage::kJpeg);
+  ASSERT_NE(o.result.status, Status::kError) << o.result.messages.back();
+  Report("jpeg_8bit_gamma", o);
+  // Issue target: 0.2 % on 8-bit JPEG with gamma 2.2.
+  EXPECT_LT(std::abs(o.rel_error), 2e-3);
+  EXPECT_LT(o.centre_error, 0.2);
+  EXPECT_LE(std::abs(o.rel_error), U95Relative(o));  // GUM k = 2
+}
+
+TEST(RingAccuracy, TransmittedLowContrast) {
+  SimulationOptions sim = BaseScene();
+  sim.seed = 9103;
+  sim.view = View::kTransmitted;
+  sim.gap.contact_offset_m = 35e-9;
+  const Outcome o = SimulateAndAnalyse(sim, OptionsFor(sim));
+  ASSERT_NE(o.result.status, Status::kError) << o.result.messages.back();
+  Report("transmitted", o);
+  // Transmitted light between glasses: visibility 2 R/(1 + R^2) ~ 8 %
+  // (Fresnel R = ((n - 1)/(n + 1))^2 = 0.042 for n = 1.5168; Hecht sec. 9.6).
+  EXPECT_LT(o.result.detection.visibility, 0.15);
+  EXPECT_LT(std::abs(o.rel_error), 5e-4);
+  EXPECT_LT(o.centre_error, 0.2);
+  EXPECT_LE(std::abs(o.rel_error), U95Relative(o));  // GUM k = 2
+}
+
+TEST(RingAccuracy, ContactFluid) {
+  SimulationOptions sim = BaseScene();
+  sim.seed = 9104;
+  sim.stack.gap_index = 1.40;  // a contact liquid: rings shrink by sqrt(n)
+  sim.gap.part_radius_m = 2.8;
+  const Outcome o = SimulateAndAnalyse(sim, OptionsFor(sim));
+  ASSERT_NE(o.result.status, Status::kError) << o.result.messages.back();
+  Report("contact_fluid", o);
+  EXPECT_LT(std::abs(o.rel_error), 5e-4);
+  EXPECT_LT(o.centre_error, 0.2);
+  EXPECT_LE(std::abs(o.rel_error), U95Relative(o));  // GUM k = 2
+}
+
+TEST(RingAccuracy, TestPlateMode) {
+  // A convex part (+52.00 mm) in a concave plate (-52.30 mm): the rings
+  // show the gap radius 1/(1/R + 1/R_plate) (references.md, test plates);
+  // the part radius comes from --reference-radius.
+  SimulationOptions sim = BaseScene();
+  sim.seed = 9105;
+  sim.gap.part_radius_m = 52.00e-3;
+  sim.gap.plate_radius_m = -52.30e-3;
+  sim.camera.pixel_pitch_m = 30e-6;
+  sim.aperture_diameter_m = 520 * 30e-6;
+  sim.gap.contact_offset_m = 80e-9;
+  RingsOptions options = OptionsFor(sim);
+  options.fit.reference_radius = Length::Metres(-52.30e-3);
+  const Outcome o = SimulateAndAnalyse(sim, options);
+  ASSERT_NE(o.result.status, Status::kError) << o.result.messages.back();
+  Report("test_plate", o);
+  EXPECT_TRUE(o.result.fit.test_plate);
+  // The part radius error is the gap-radius error scaled by (R/R_gap)^2 =
+  // (0.3/52.3)^2: far below the 0.05 % target.
+  EXPECT_LT(std::abs(o.rel_error), 5e-4);
+  const double gap_true = 1.0 / (1.0 / 52.00e-3 - 1.0 / 52.30e-3);
+  EXPECT_LT(std::abs(o.result.fit.gap_radius_m / gap_true - 1.0), 5e-4);
+  EXPECT_LT(o.centre_error, 0.2);
+  EXPECT_LE(std::abs(o.rel_error), U95Relative(o));  // GUM k = 2
+}
+
+// --- Coverage of U95 ------------------------------------------------------
+
+struct CoverageStats {
+  int cases = 0;
+  int failed = 0;  // analysis status error
+  int covered = 0;
+  double median_u95 = 0.0;        // relative
+  double median_error = 0.0;      // relative, absolute value
+  double rms_pull = 0.0;          // (R - R_true) / u
+  double max_abs_error = 0.0;     // relative
+  int centre_covered = 0;         // centre error within 2.45 u (2-D 95 %)
+  double max_centre_error = 0.0;  // px
+};
+
+// A random but sensible scene: R log-uniform 0.5..8 m, 8..30 rings over the
+// aperture (the pitch follows), centre and contact point off the image
+// centre, dust, noise, blur, fall-off.
+SimulationOptions RandomScene(std::mt19937_64* rng) {
+  auto uni = [rng](double lo, double hi) {
+    return std::uniform_real_distribution<double>(lo, hi)(*rng);
+  };
+  SimulationOptions sim = BaseScene();
+  const int size = 560 + 20 * static_cast<int>(uni(0, 6));
+  sim.camera.width_px = size;
+  sim.camera.height_px = size;
+  const double ap_px = size * uni(0.78, 0.86);
+  const double radius = std::exp(uni(std::log(0.5), std::log(8.0)));
+  const double rings = uni(8.0, 30.0);
+  const double period_r2 = (0.5 * ap_px) * (0.5 * ap_px) / rings;  // px^2
+  const double pitch = std::sqrt(kHgE * radius / period_r2);
+  sim.gap.part_radius_m = radius;
+  sim.camera.pixel_pitch_m = pitch;
+  sim.aperture_diameter_m = ap_px * pitch;
+  sim.centre_x_px = 0.5 * (size - 1) + uni(-12.0, 12.0);
+  sim.centre_y_px = 0.5 * (size - 1) + uni(-12.0, 12.0);
+  sim.gap.contact_x_m = uni(-0.08, 0.08) * ap_px * pitch;
+  sim.gap.contact_y_m = uni(-0.08, 0.08) * ap_px * pitch;
+  sim.gap.contact_offset_m = uni(0.0, 200e-9);
+  sim.camera.blur_sigma_px = uni(0.3, 1.2);
+  sim.camera.falloff = uni(0.0, 0.35);
+  sim.camera.background = uni(0.0, 0.05);
+  sim.camera.full_well_e = uni(5000.0, 40000.0);
+  sim.camera.read_noise_e = uni(2.0, 10.0);
+  sim.seed = (*rng)();
+  return sim;
+}
+
+CoverageStats Coverage(std::uint64_t master_seed, int cases,
+                       bool verbose = false) {
+  std::mt19937_64 rng(master_seed);
+  CoverageStats s;
+  std::vector<double> u95s, errors;
+  double pull2 = 0.0;
+  for (int i = 0; i < cases; ++i) {
+    const SimulationOptions sim = RandomScene(&rng);
+    const Outcome o = SimulateAndAnalyse(sim, OptionsFor(sim));
+    ++s.cases;
+    if (o.result.status == Status::kError) {
+      ++s.failed;
+      std::cout << "[coverage] case " << i << " failed: "
+                << (o.result.messages.empty() ? "" : o.result.messages.back())
+                << "\n";
+      continue;
+    }
+    const double u95 = o.result.fit.radius_u95_m / std::abs(o.true_radius_m);
+    const double u = o.result.fit.radius_u_m / std::abs(o.true_radius_m);
+    const double err = std::abs(o.rel_error);
+    if (err <= u95) ++s.covered;
+    // Rayleigh distribution of a 2-D error with equal per-axis sigma u:
+    // P(|e| <= 2.45 u) = 1 - exp(-2.45^2 / 2) = 0.95 [practice].
+    if (o.centre_error <= 2.45 * o.result.fit.centre_u_px) ++s.centre_covered;
+    s.max_centre_error = std::max(s.max_centre_error, o.centre_error);
+    u95s.push_back(u95);
+    errors.push_back(err);
+    pull2 += (o.rel_error / u) * (o.rel_error / u);
+    s.max_abs_error = std::max(s.max_abs_error, err);
+    if (verbose) {
+      std::cout << "[coverage] case " << i << " R " << sim.gap.part_radius_m
+                << " m, pitch " << sim.camera.pixel_pitch_m * 1e6
+                << " um, rings " << o.result.fit.ring_count << ", err "
+                << 1e2 * o.rel_error << " %, U95 " << 1e2 * u95 << " %, pull "
+                << o.rel_error / u << ", centre err " << o.centre_error
+                << " px, centre u " << o.result.fit.centre_u_px << " px, chi2 "
+                << o.result.fit.chi2_reduced << ", u_fit "
+                << o.result.fit.uncertainty_note.substr(0, 60) << "\n";
+    }
+  }
+  auto median = [](std::vector<double> v) {
+    if (v.empty()) return std::numeric_limits<double>::quiet_NaN();
+    std::nth_element(v.begin(), v.begin() + static_cast<long>(v.size() / 2),
+                     v.end());
+    return v[v.size() / 2];
+  };
+  s.median_u95 = median(u95s);
+  s.median_error = median(errors);
+  const int good = s.cases - s.failed;
+  s.rms_pull = good > 0 ? std::sqrt(pull2 / good) : 0.0;
+  return s;
+}
+
+void PrintCoverage(const std::string& name, const CoverageStats& s) {
+  const double fraction =
+      static_cast<double>(s.covered) / static_cast<double>(s.cases);
+  std::cout << "[coverage] " << name << ": " << s.covered << "/" << s.cases
+            << " covered (" << 100.0 * fraction << " %), failed " << s.failed
+            << ", median |error| " << 100.0 * s.median_error
+            << " %, median U95 " << 100.0 * s.median_u95
+            << " %, median U95 / median |error| "
+            << s.median_u95 / s.median_error << ", RMS pull " << s.rms_pull
+            << ", max |error| " << 100.0 * s.max_abs_error
+            << " %, centre covered " << s.centre_covered << "/" << s.cases
+            << ", max centre error " << s.max_centre_error << " px\n";
+  testing::Test::RecordProperty(name + "_coverage", std::to_string(fraction));
+  testing::Test::RecordProperty(name + "_u95_over_error",
+                                std::to_string(s.median_u95 / s.median_error));
+}
+
+constexpr std::uint64_t kJudgedSeed = 20261202;
+constexpr std::uint64_t kTuningSeed = 77;
+
+TEST(RingAccuracy, U95CoversTrueRadius) {
+  const CoverageStats s = Coverage(kJudgedSeed, 50);
+  PrintCoverage("judged", s);
+  EXPECT_EQ(s.failed, 0);
+  // GUM k = 2: about 95 %; the issue demands at least 90 % of 50 cases.
+  EXPECT_GE(s.covered, 45);
+  // Not wildly wide: median U95 under 5x the median actual error.
+  EXPECT_LT(s.median_u95, 5.0 * s.median_error);
+  // Every case within the 16-bit accuracy target.
+  EXPECT_LT(s.max_abs_error, 5e-4);
+  // The centre uncertainty (per axis) covers the 2-D centre error likewise.
+  EXPECT_GE(s.centre_covered, 45);
+  EXPECT_LT(s.max_centre_error, 0.2);  // issue target: centre within 0.2 px
+}
+
+// Run by hand (--gtest_also_run_disabled_tests) while calibrating; its
+// seeds are separate from the judged ones.
+TEST(RingAccuracy, DISABLED_Tuning) {
+  const CoverageStats s = Coverage(kTuningSeed, 50, true);
+  PrintCoverage("tuning", s);
+}
+
+}  // namespace
+}  // namespace figura
