@@ -130,11 +130,16 @@ FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
         int x0 = 0;
         int x1 = -1;
         RowSpan(region, y, image.cols, x0, x1);
+        if (x1 < x0) continue;
         const float* row = image.ptr<float>(y);
-        for (int x = x0; x <= x1; ++x) {
-          acc[static_cast<std::size_t>(x / scale)] +=
-              static_cast<double>(row[x]);
-          cnt[static_cast<std::size_t>(x / scale)] += 1.0;
+        // Block by block (no division per pixel).
+        for (int bx = x0 / scale; bx <= x1 / scale; ++bx) {
+          const int xa = std::max(x0, bx * scale);
+          const int xb = std::min(x1, (bx + 1) * scale - 1);
+          double part = 0.0;
+          for (int x = xa; x <= xb; ++x) part += static_cast<double>(row[x]);
+          acc[static_cast<std::size_t>(bx)] += part;
+          cnt[static_cast<std::size_t>(bx)] += static_cast<double>(xb - xa + 1);
         }
       }
       float* s = sum_i.ptr<float>(by);
