@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <cstdio>
+#include <optional>
 #include <sstream>
 
 #include "io/result_json.h"
@@ -30,6 +31,67 @@ void Append(std::vector<std::string>* to, const std::vector<std::string>& from,
 
 Status Worse(Status a, Status b) {
   return static_cast<int>(a) > static_cast<int>(b) ? a : b;
+}
+
+// The fringe state of the pixels at the fitted centre, judged against the
+// first fringes around it: the mean level of the central spot (within 0.1
+// order of the centre) is compared with the mean levels of the dark and of
+// the bright fringes (within 0.1 order of their extrema) over the next
+// three orders, using the fitted conic's order at every pixel. Empty when
+// too few pixels qualify.
+std::optional<FringeState> CentreStateSeen(const cv::Mat& pixels,
+                                           const RingFitResult& fit,
+                                           double minimum_offset) {
+  const double a = fit.quad_px2[0];
+  const double b = fit.quad_px2[1];
+  const double c = fit.quad_px2[2];
+  const double mean_curv = std::abs(0.5 * (a + c));
+  if (!(mean_curv > 0.0) || pixels.type() != CV_32FC1) return std::nullopt;
+  const double reach = std::sqrt(3.6 / mean_curv) * 1.5 + 2.0;
+  const int x0 = std::max(0, static_cast<int>(fit.centre_px.x - reach));
+  const int x1 =
+      std::min(pixels.cols - 1, static_cast<int>(fit.centre_px.x + reach));
+  const int y0 = std::max(0, static_cast<int>(fit.centre_px.y - reach));
+  const int y1 =
+      std::min(pixels.rows - 1, static_cast<int>(fit.centre_px.y + reach));
+  double sum[3] = {0.0, 0.0, 0.0};  // spot, dark, bright
+  double count[3] = {0.0, 0.0, 0.0};
+  const double order_c = fit.contact_sign * fit.centre_value;
+  for (int y = y0; y <= y1; ++y) {
+    const float* row = pixels.ptr<float>(y);
+    const double v = y - fit.centre_px.y;
+    for (int x = x0; x <= x1; ++x) {
+      const double u = x - fit.centre_px.x;
+      const double order = fit.contact_sign * (fit.centre_value + a * u * u +
+                                               2.0 * b * u * v + c * v * v);
+      const double away = std::abs(order - order_c);
+      const double value = static_cast<double>(row[x]);
+      if (!std::isfinite(value)) continue;
+      if (away < 0.1) {
+        sum[0] += value;
+        count[0] += 1.0;
+      } else if (away > 0.5 && away < 3.5) {
+        const double frac =
+            order - minimum_offset - std::floor(order - minimum_offset);
+        if (frac < 0.1 || frac > 0.9) {
+          sum[1] += value;
+          count[1] += 1.0;
+        } else if (std::abs(frac - 0.5) < 0.1) {
+          sum[2] += value;
+          count[2] += 1.0;
+        }
+      }
+    }
+  }
+  if (count[0] < 5.0 || count[1] < 20.0 || count[2] < 20.0) {
+    return std::nullopt;
+  }
+  const double spot = sum[0] / count[0];
+  const double dark = sum[1] / count[1];
+  const double bright = sum[2] / count[2];
+  return std::abs(spot - dark) <= std::abs(spot - bright)
+             ? FringeState::kDark
+             : FringeState::kBright;
 }
 
 }  // namespace
@@ -86,16 +148,37 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
     out.status = Status::kError;
     return out;
   }
+  // Weak fits: few rings determine R poorly, and large residuals mean the
+  // surface is not a sphere (irregularity) or fringes were misplaced.
+  if (out.fit.ring_count < kFewRings) {
+    out.status = Worse(out.status, Status::kWarning);
+    out.messages.push_back(
+        "only " + std::to_string(out.fit.ring_count) +
+        " dark rings: the radius is weakly determined; use a test plate that "
+        "fits more closely (or none) or a larger aperture");
+  }
+  if (out.fit.residual_rms_fringes > kLargeResidualFringes) {
+    out.status = Worse(out.status, Status::kWarning);
+    out.messages.push_back(
+        "large fit residuals (" + Fixed(out.fit.residual_rms_fringes, 3) +
+        " fringe rms): the surface departs from a sphere or fringes were "
+        "misplaced; see the surface map");
+  }
   // The centre state seen in the photo against the one the fit predicts
   // from the fractional order at the centre (ambiguous near a quarter).
   const double frac = out.fit.centre_order_fraction;
   const bool clear = std::abs(frac - 0.25) > 0.1 && std::abs(frac - 0.75) > 0.1;
-  if (clear && out.fit.centre_predicted != out.detection.centre_observed) {
+  // Seen: the central pixels themselves (a glint or dust at the contact
+  // shows here); else the detection's state from the mean profile's phase.
+  const std::optional<FringeState> seen =
+      CentreStateSeen(image.pixels, out.fit,
+                      MinimumOffset(options.fit.stack, options.fit.view));
+  const FringeState observed = seen ? *seen : out.detection.centre_observed;
+  if (clear && out.fit.centre_predicted != observed) {
     out.centre_disagrees = true;
     out.status = Worse(out.status, Status::kWarning);
     out.messages.push_back(
-        std::string("the centre looks ") +
-        FringeStateName(out.detection.centre_observed) +
+        std::string("the centre looks ") + FringeStateName(observed) +
         " but the fitted orders predict " +
         FringeStateName(out.fit.centre_predicted) +
         ": check the media indices and --view, or dust at the contact");

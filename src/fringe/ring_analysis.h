@@ -16,6 +16,14 @@
 
 namespace figura {
 
+// AnalyseRings warns when fewer dark rings than this were fitted.
+inline constexpr int kFewRings = 5;
+// AnalyseRings warns when the fit's residual rms exceeds this (fringes);
+// 1/20 fringe is well above what a spherical surface leaves (under 0.01 on
+// the simulated photos of tests/fringe/ring_accuracy_test.cpp) [practice:
+// lambda/20-class irregularity is visible in a fringe photo].
+inline constexpr double kLargeResidualFringes = 0.05;
+
 // Settings of the analysis of one photograph.
 struct RingsOptions {
   RingDetectionOptions detection;
