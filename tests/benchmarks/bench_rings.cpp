@@ -127,6 +127,8 @@ ChildRun Spawn(const std::vector<std::string>& argv, const fs::path& out_path,
   }
   std::vector<char*> cargv;
   std::vector<char*> cenv;
+  cargv.reserve(argv.size() + 1);
+  cenv.reserve(env.size() + 1);
   for (const auto& a : argv) cargv.push_back(const_cast<char*>(a.c_str()));
   cargv.push_back(nullptr);
   for (const auto& e : env) cenv.push_back(const_cast<char*>(e.c_str()));
