@@ -228,7 +228,26 @@ CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
     }
   }
   const auto solver = design.colPivHouseholderQr();
+  // Coarse steps (above kCoarseStepPx) need far fewer samples to find the
+  // direction of the optimum: every kCoarseStride-th sample is used there,
+  // all of them in the fine steps that decide the result.
+  constexpr double kCoarseStepPx = 0.25;
+  constexpr std::size_t kCoarseStride = 4;
+  PixelSamples coarse;
+  const bool thin = samples.x.size() > 40 * kCoarseStride * 1000;
+  if (thin) {
+    const std::size_t n = samples.x.size() / kCoarseStride;
+    coarse.x.reserve(n);
+    coarse.y.reserve(n);
+    coarse.value.reserve(n);
+    for (std::size_t i = 0; i < samples.x.size(); i += kCoarseStride) {
+      coarse.x.push_back(samples.x[i]);
+      coarse.y.push_back(samples.y[i]);
+      coarse.value.push_back(samples.value[i]);
+    }
+  }
   while (step >= stop_step_px) {
+    const PixelSamples& used = thin && step > kCoarseStepPx ? coarse : samples;
     Eigen::Matrix<double, 9, 1> f;
     // The nine evaluations are independent: run them in parallel.
     cv::parallel_for_(cv::Range(0, 9), [&](const cv::Range& range) {
@@ -236,7 +255,7 @@ CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
         const int i = row % 3 - 1;
         const int j = row / 3 - 1;
         f(row) = ProfileSharpness(
-            samples, centre + cv::Point2d(i * step, j * step), period_r2_px2);
+            used, centre + cv::Point2d(i * step, j * step), period_r2_px2);
       }
     });
     int best = 4;

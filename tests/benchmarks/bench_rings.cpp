@@ -220,6 +220,7 @@ int main(int argc, char** argv) {
     std::vector<double> peer_s;
     std::vector<double> peak;
     double our_r = std::nan("");
+    double centre_error_px = std::nan("");
     double peer_r = std::nan("");
     double analysis_r = std::nan("");
     const fs::path peer_script =
@@ -258,8 +259,13 @@ int main(int argc, char** argv) {
       }
       command.push_back(ours.seconds);
       peak.push_back(ours.peak_mb);
-      our_r = nlohmann::json::parse(ReadAll(json))["radius_of_curvature_mm"]
-                  .get<double>();
+      const auto ours_json = nlohmann::json::parse(ReadAll(json));
+      our_r = ours_json["radius_of_curvature_mm"].get<double>();
+      centre_error_px =
+          std::hypot(ours_json["fringe_centre_px"][0].get<double>() -
+                         truth["fringe_centre_px"][0].get<double>(),
+                     ours_json["fringe_centre_px"][1].get<double>() -
+                         truth["fringe_centre_px"][1].get<double>());
 
       if (have_peer) {
         // The peer runs with the distribution's numpy and OpenBLAS defaults:
@@ -314,6 +320,7 @@ int main(int argc, char** argv) {
     std::printf("    figura rings  %+.4f %%  (in-process %+.4f %%)\n",
                 100.0 * (our_r / true_r_mm - 1.0),
                 100.0 * (analysis_r / true_r_mm - 1.0));
+    std::printf("    figura centre error %.4f px\n", centre_error_px);
     if (!peer_s.empty())
       std::printf("    peer          %+.4f %%\n",
                   100.0 * (peer_r / true_r_mm - 1.0));
