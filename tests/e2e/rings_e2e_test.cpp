@@ -3,6 +3,7 @@
 // ../shared/references.md); bad input gives one line and exit code 2.
 #include <gtest/gtest.h>
 
+#include <cmath>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
@@ -58,8 +59,43 @@ TEST(RingsE2e, SimulatedLensOnFlat) {
               truth["fringe_centre_px"][1].get<double>(), 0.2);
   EXPECT_EQ(r["centre_fringe"], truth["centre_fringe"]);
   EXPECT_EQ(r["coverage_factor"].get<double>(), 2.0);
+  // GUM (JCGM 100:2008) k = 2: the expanded uncertainty covers the truth
+  // (calibrated on separate seeds in tests/fringe/ring_accuracy_test.cpp),
+  // and the budget names the ring-detection systematic.
+  EXPECT_LE(std::abs(r["radius_of_curvature_mm"].get<double>() - expected),
+            r["radius_of_curvature_u95_mm"].get<double>());
+  EXPECT_GT(r["uncertainty_budget_relative"]["ring_detection"].get<double>(),
+            0.0);
   EXPECT_TRUE(fs::exists(dir / "o.png"));
   EXPECT_TRUE(fs::exists(dir / "p.svg"));
+}
+
+TEST(RingsE2e, TestPlateWithTooFewRingsIsAnError) {
+  // The fixture's lens (+51.68 mm) in a -51.70 mm plate shows 1.4 fringes
+  // over 20 mm (gap radius 1/(1/51.68 - 1/51.70) mm = 134 m; r^2 = k lambda
+  // R / n, references.md): too few for a radius. Exit 2, one line, and a
+  // result file without a made-up radius.
+  const fs::path dir = TempDir("rings_e2e_plate");
+  const fs::path gap =
+      fs::path(FIGURA_SOURCE_DIR) / "tests/fixtures/sim/lens_on_test_plate.ini";
+  std::string err;
+  ASSERT_EQ(Figura("simulate --gap '" + gap.string() + "' --out '" +
+                       (dir / "plate.tif").string() + "'",
+                   dir, &err),
+            0)
+      << err;
+  EXPECT_EQ(Figura("rings '" + (dir / "plate.tif").string() +
+                       "' --wavelength sodium --pixel-pitch 60um "
+                       "--reference-radius -51.70mm --json '" +
+                       (dir / "r.json").string() + "'",
+                   dir, &err),
+            2);
+  EXPECT_NE(err.find("too few rings"), std::string::npos) << err;
+  const auto r = nlohmann::json::parse(ReadFile(dir / "r.json"));
+  EXPECT_EQ(r["status"]["state"], "error");
+  for (const char* key : {"radius_of_curvature_mm", "part_radius_mm"}) {
+    EXPECT_TRUE(!r.contains(key) || r[key].is_null()) << key;
+  }
 }
 
 TEST(RingsE2e, DiameterModeWorkedExample) {
