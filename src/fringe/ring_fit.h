@@ -23,7 +23,11 @@
 // that is larger, so that errors shared by the points of one azimuth sector
 // are not averaged away), combined with the pixel-pitch uncertainty (R
 // scales with pitch^2) and the wavelength uncertainty (R scales with
-// 1/lambda); U95 = k u with coverage factor k = 2.
+// 1/lambda); U95 = k u with coverage factor k = 2. For points from ring
+// detection (RingFitOptions::detected_points) the fit covariance follows the
+// residual scatter and a Type B ring-detection systematic is added (R and
+// centre), calibrated by simulation: with it U95 covered the true R in 96 %
+// of 50 random simulated photos (tests/fringe/ring_accuracy_test.cpp).
 #pragma once
 
 #include <opencv2/core.hpp>
