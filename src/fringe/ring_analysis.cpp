@@ -126,6 +126,7 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
     det.full_scale = image.info.full_scale;
   }
   out.detection = DetectRings(image.pixels, det);
+  out.centre_observed = out.detection.centre_observed;
   Append(&out.messages, out.detection.messages, "detection: ");
   if (out.detection.status == Status::kError) {
     out.status = Status::kError;
@@ -174,6 +175,7 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
       CentreStateSeen(image.pixels, out.fit,
                       MinimumOffset(options.fit.stack, options.fit.view));
   const FringeState observed = seen ? *seen : out.detection.centre_observed;
+  out.centre_observed = observed;
   if (clear && out.fit.centre_predicted != observed) {
     out.centre_disagrees = true;
     out.status = Worse(out.status, Status::kWarning);
@@ -299,7 +301,7 @@ nlohmann::json RingsJson(const RingsResult& r, const RingsOptions& options,
     j["fringe_centre_px"] = {FiniteOrNull(f.centre_px.x),
                              FiniteOrNull(f.centre_px.y)};
     j["fringe_centre_u_px"] = FiniteOrNull(f.centre_u_px);
-    j["centre_fringe"] = FringeStateName(r.detection.centre_observed);
+    j["centre_fringe"] = FringeStateName(r.centre_observed);
     j["astigmatism_fringes"] = FiniteOrNull(f.astigmatism_fringes);
     j["astigmatism_u_fringes"] =
         f.has_uncertainty ? FiniteOrNull(f.astigmatism_u_fringes) : nullptr;
@@ -344,7 +346,7 @@ std::string RingsSummary(const RingsResult& r, const std::string& name) {
     if (!r.from_diameters) {
       out << "  fringe centre (" << Fixed(f.centre_px.x, 2) << ", "
           << Fixed(f.centre_px.y, 2) << ") px +- " << Fixed(f.centre_u_px, 2)
-          << " px, centre " << FringeStateName(r.detection.centre_observed)
+          << " px, centre " << FringeStateName(r.centre_observed)
           << " (predicted " << FringeStateName(f.centre_predicted)
           << "), visibility " << Fixed(r.detection.visibility, 3) << "\n";
       out << "  astigmatism " << Fixed(f.astigmatism_fringes, 3) << " +- "

@@ -41,6 +41,10 @@ struct RingsResult {
   RingDetectionResult detection;         // empty in the diameter mode
   std::vector<RingFitPoint> fit_points;  // the detection's points as fit input
   RingFitResult fit;
+  // The centre state seen in the photo: the central pixels against the
+  // first fringes around the fitted centre, else the detection's
+  // (detection.centre_observed, from the mean profile's phase).
+  FringeState centre_observed = FringeState::kDark;
   bool centre_disagrees =
       false;  // observed centre state differs from the fit's prediction
 };

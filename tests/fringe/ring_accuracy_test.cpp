@@ -518,6 +518,9 @@ TEST(RingAccuracyWarnings, CentreStateDisagrees) {
   EXPECT_EQ(r.status, Status::kWarning);
   EXPECT_TRUE(r.centre_disagrees);
   EXPECT_EQ(r.fit.centre_predicted, FringeState::kDark);
+  EXPECT_EQ(r.centre_observed, FringeState::kBright);
+  EXPECT_EQ(RingsJson(r, options, nlohmann::json::object())["centre_fringe"],
+            "bright");
   EXPECT_NE(Joined(r).find("the centre looks bright"), std::string::npos);
 }
 
