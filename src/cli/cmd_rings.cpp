@@ -107,7 +107,7 @@ int Run(const std::vector<std::string>& args) {
   if (vm.count("reference-radius") != 0U) {
     fit.reference_radius = vm["reference-radius"].as<Length>();
   }
-  fit.contact = ParseRingContact(contact, "--contact");
+  fit.contact = ParseContact(contact, "--contact");
   const bool diameter_mode = !diameters.empty();
   if (diameter_mode && !images.empty()) {
     throw InputError("give either images or --diameters FILE, not both");

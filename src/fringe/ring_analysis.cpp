@@ -222,7 +222,7 @@ nlohmann::json RingsSettingsJson(const RingsOptions& options,
       {"reference_radius_mm", f.reference_radius
                                   ? nlohmann::json(f.reference_radius->mm())
                                   : nlohmann::json(nullptr)},
-      {"contact", RingContactName(f.contact)},
+      {"contact", ContactName(f.contact)},
       {"aperture_diameter_mm", f.aperture_diameter
                                    ? nlohmann::json(f.aperture_diameter->mm())
                                    : nlohmann::json(nullptr)},

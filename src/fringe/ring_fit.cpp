@@ -148,18 +148,6 @@ std::string Format(double value, int digits = 4) {
 
 }  // namespace
 
-RingContact ParseRingContact(const std::string& text, const std::string& what) {
-  const std::string t(Trim(text));
-  if (t == "centre" || t == "center") return RingContact::kCentre;
-  if (t == "edge") return RingContact::kEdge;
-  throw InputError((what.empty() ? std::string() : what + ": ") + "'" + text +
-                   "' is not a contact; write centre or edge");
-}
-
-const char* RingContactName(RingContact contact) {
-  return contact == RingContact::kCentre ? "centre" : "edge";
-}
-
 std::string RingFitOptions::Check() const {
   const double lambda = wavelength.value.metres;
   if (!(std::isfinite(lambda) && lambda > 0.0))
@@ -211,8 +199,8 @@ double MinimumOffset(const MediaStack& stack, View view) {
 
 double PartRadiusFromFringes(double plate_radius_m, double diameter_m,
                              double fringes, double wavelength_m,
-                             double gap_index, RingContact contact) {
-  const double sign = contact == RingContact::kCentre ? 1.0 : -1.0;
+                             double gap_index, Contact contact) {
+  const double sign = contact == Contact::kCentre ? 1.0 : -1.0;
   const double gap_sag = sign * fringes * wavelength_m / (2.0 * gap_index);
   return PartRadiusFromSagDifference(plate_radius_m, diameter_m, gap_sag);
 }
@@ -246,7 +234,7 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   const double n_gap = options.stack.gap_index;
   const double k_fringe = 2.0 * n_gap / lambda;  // fringes per metre of gap
   const double pitch = options.pixel_pitch.metres;
-  const double sign = options.contact == RingContact::kCentre ? 1.0 : -1.0;
+  const double sign = options.contact == Contact::kCentre ? 1.0 : -1.0;
   const double d_offset = MinimumOffset(options.stack, options.view);
   // Internally the radius the part has when it matches the plate: the
   // plate's radius mirrored (sphere.h: a perfect match is R_plate = -R).
@@ -375,7 +363,7 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
     if (!(sign * a_now > 0.0)) {
       return fail(std::string("the fringe orders do not grow as the gap does "
                               "for contact at the ") +
-                  RingContactName(options.contact) + " (check --contact)");
+                  ContactName(options.contact) + " (check --contact)");
     }
     const double gap_radius =
         n_gap * pitch * pitch * scale * scale / (lambda * a_now);

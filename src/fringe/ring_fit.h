@@ -39,20 +39,9 @@
 #include "core/light_source.h"
 #include "core/quantity.h"
 #include "optics/media.h"
+#include "optics/sphere.h"
 
 namespace figura {
-
-// Where a test plate touches the part: at the centre (the part is steeper
-// than the plate's matching radius) or at the edge (flatter). The same idea
-// as sim/gap.h's Contact, which lives in a higher layer; both should move to
-// optics/sphere.h (owned elsewhere), after which this becomes an alias.
-enum class RingContact { kCentre, kEdge };
-
-// Parses "centre" / "center" / "edge". Throws InputError naming `what`.
-RingContact ParseRingContact(const std::string& text,
-                             const std::string& what = "--contact");
-// "centre" / "edge".
-const char* RingContactName(RingContact contact);
 
 // Settings of the ring model fit.
 struct RingFitOptions {
@@ -66,8 +55,8 @@ struct RingFitOptions {
   // (optics/sphere.h): a concave plate that fits a +100 mm convex part is
   // -100 mm. Absent: a flat (plain Newton's rings, R of the part itself).
   std::optional<Length> reference_radius;
-  Length reference_radius_u;                   // its standard uncertainty
-  RingContact contact = RingContact::kCentre;  // where the surfaces touch
+  Length reference_radius_u;           // its standard uncertainty
+  Contact contact = Contact::kCentre;  // where the surfaces touch
   // Evaluated aperture diameter (object side). Absent: twice the largest
   // fringe radius used.
   std::optional<Length> aperture_diameter;
@@ -222,7 +211,7 @@ double MinimumOffset(const MediaStack& stack, View view);
 // sign * N lambda / (2 n_gap), sign + for contact at the centre.
 double PartRadiusFromFringes(double plate_radius_m, double diameter_m,
                              double fringes, double wavelength_m,
-                             double gap_index, RingContact contact);
+                             double gap_index, Contact contact);
 
 // Refractive index of a liquid filling the gap, from the diameter of the
 // same ring in air and with the liquid: n = (D_air / D_liquid)^2 (r^2 scales

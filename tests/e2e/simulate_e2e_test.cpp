@@ -98,7 +98,7 @@ TEST(SimulateE2e, BadGapFileIsOneLineAndExitTwo) {
   EXPECT_EQ(r.exit_code, 2);
   EXPECT_EQ(std::count(r.err.begin(), r.err.end(), '\n'), 1) << r.err;
   EXPECT_NE(r.err.find("bad_missing_unit.ini:3"), std::string::npos) << r.err;
-  EXPECT_NE(r.err.find("part_radius"), std::string::npos) << r.err;
+  EXPECT_NE(r.err.find("part-radius"), std::string::npos) << r.err;
   EXPECT_FALSE(fs::exists(image));
   // A JPEG cannot hold the file's 16 bits: refused before rendering.
   const CommandRun j =

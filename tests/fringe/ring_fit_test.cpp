@@ -28,7 +28,7 @@ struct Truth {
   double astig_per_m2 =
       0.0;  // gamma: fringes = ... + gamma r^2 cos 2(theta - phi)
   double astig_axis_rad = 0.0;  // image coordinates
-  RingContact contact = RingContact::kCentre;
+  Contact contact = Contact::kCentre;
   MediaStack stack{};
   int sectors = 36;
   int first_index = 0, last_index = 28;  // half-periods, dark even
@@ -44,7 +44,7 @@ double GapFringesAt(const Truth& t, double r, double theta) {
 
 // The radius (m) where sign * gap = order + e, by bisection.
 double SolveRadius(const Truth& t, double order, double theta) {
-  const double sign = t.contact == RingContact::kCentre ? 1.0 : -1.0;
+  const double sign = t.contact == Contact::kCentre ? 1.0 : -1.0;
   const double goal = order + t.e;
   double lo = 0.0;
   double hi = 0.4 * std::abs(t.part_radius);
@@ -135,7 +135,7 @@ TEST(RingFit, TestPlateCentreAndEdgeContact) {
     Truth t;
     t.plate_radius = -0.100;
     t.part_radius = part;
-    t.contact = part < 0.1 ? RingContact::kCentre : RingContact::kEdge;
+    t.contact = part < 0.1 ? Contact::kCentre : Contact::kEdge;
     t.pitch = 20e-6;
     t.e = 0.1;
     t.last_index = 40;
@@ -143,7 +143,7 @@ TEST(RingFit, TestPlateCentreAndEdgeContact) {
     ASSERT_NE(fit.status, Status::kError) << fit.messages.front();
     EXPECT_TRUE(fit.test_plate);
     EXPECT_NEAR(fit.part_radius_m / part, 1.0, 1e-9)
-        << RingContactName(t.contact);
+        << ContactName(t.contact);
     EXPECT_NEAR(fit.deviation_m, part - 0.100, 1e-10);
     // Power over the evaluated aperture from the exact sags (sphere.h).
     const double half = 0.5 * fit.aperture_diameter_m;
@@ -163,13 +163,13 @@ TEST(RingFit, TestPlateWorkedExample) {
   // Exact inverse: the part steeper than the plate (contact at the centre)
   // by exactly 2 fringes.
   const double part = PartRadiusFromFringes(plate, 0.030, 2.0, kLambda, 1.0,
-                                            RingContact::kCentre);
+                                            Contact::kCentre);
   EXPECT_NEAR(GapFringes(SphereGap(part, plate, 0.015), kLambda), 2.0, 1e-9);
   // Exact dR is smaller than the estimate by about the ratio 2 / 2.033.
   EXPECT_NEAR((0.100 - part) / approx, 2.0 / 2.033, 2e-3);
   // Edge contact: the part is flatter.
   const double flat = PartRadiusFromFringes(plate, 0.030, 2.0, kLambda, 1.0,
-                                            RingContact::kEdge);
+                                            Contact::kEdge);
   EXPECT_GT(flat, 0.100);
   EXPECT_NEAR(GapFringes(SphereGap(flat, plate, 0.015), kLambda), -2.0, 1e-9);
 }
@@ -350,8 +350,8 @@ TEST(RingFit, BadInput) {
   const RingFitResult fit = FitRings(MakePoints(t), OptionsFor(t), Guess(t));
   EXPECT_EQ(fit.status, Status::kError);
   ASSERT_FALSE(fit.messages.empty());
-  EXPECT_THROW(ParseRingContact("middle"), InputError);
-  EXPECT_EQ(ParseRingContact("center"), RingContact::kCentre);
+  EXPECT_THROW(ParseContact("middle"), InputError);
+  EXPECT_EQ(ParseContact("center"), Contact::kCentre);
 }
 
 TEST(RingFit, LiquidIndexWorkedExample) {
