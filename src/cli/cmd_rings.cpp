@@ -2,19 +2,12 @@
 // and validates the options, then calls the library (fringe/ring_analysis.h)
 // per input and writes the summary, JSON, overlay and plot. One image gives
 // one JSON object; several give an array of objects in input order.
-// GCC 12 at -O3 reports a false "potential null pointer dereference" inside
-// boost::program_options' typed_value notify (its any_cast); silenced for
-// the Boost and standard headers only.
-#pragma GCC diagnostic push
-#pragma GCC diagnostic ignored "-Wnull-dereference"
-#include <boost/program_options.hpp>
 #include <cctype>
 #include <filesystem>
 #include <iostream>
 #include <optional>
 #include <string>
 #include <vector>
-#pragma GCC diagnostic pop
 
 #include "cli/command.h"
 #include "cli/options.h"

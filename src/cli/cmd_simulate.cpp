@@ -2,20 +2,12 @@
 // renders a synthetic fringe photograph from a gap file (sim/gap_file.h)
 // and writes it with its truth file "<stem>.truth.json" beside it. Parses,
 // validates, calls Simulate (sim/simulation.h) and writes.
-// GCC 12 at -O3 reports a false "potential null pointer dereference" inside
-// boost::program_options' typed_value<std::string>::notify (its any_cast)
-// for this file; the warning is silenced for the standard and Boost headers
-// only.
-#pragma GCC diagnostic push
-#pragma GCC diagnostic ignored "-Wnull-dereference"
-#include <boost/program_options.hpp>
 #include <chrono>
 #include <cstdint>
 #include <iostream>
 #include <sstream>
 #include <string>
 #include <vector>
-#pragma GCC diagnostic pop
 
 #include "cli/command.h"
 #include "cli/options.h"

@@ -8,14 +8,6 @@
 #include <string>
 #include <vector>
 
-// GCC 12 at -O3 reports a false "potential null pointer dereference" inside
-// Boost.Program_options' typed_value<std::string>::notify (a guarded
-// pointer); silenced for the Boost headers only.
-#pragma GCC diagnostic push
-#pragma GCC diagnostic ignored "-Wnull-dereference"
-#include <boost/program_options.hpp>
-#pragma GCC diagnostic pop
-
 #include "cli/command.h"
 #include "cli/options.h"
 #include "core/error.h"

@@ -326,7 +326,7 @@ std::string RingsSummary(const RingsResult& r, const std::string& name) {
           << " mm, U95 = " << Num(f.radius_u95_m * 1e3, 3)
           << " mm (k = " << Num(f.coverage_factor, 3) << ")";
     } else {
-      out << "  (no uncertainty: " << f.uncertainty_note << ")";
+      out << "  (" << f.uncertainty_note << ")";
     }
     out << "\n";
     if (f.test_plate) {
