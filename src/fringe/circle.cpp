@@ -6,6 +6,17 @@
 
 namespace figura {
 
+void RowSpan(const Circle& c, int y, int cols, int& x0, int& x1) {
+  const double dy = y - c.centre.y;
+  const double rest = c.radius * c.radius - dy * dy;
+  x0 = 0;
+  x1 = -1;
+  if (rest < 0.0) return;
+  const double half = std::sqrt(rest);
+  x0 = std::max(0, static_cast<int>(std::ceil(c.centre.x - half)));
+  x1 = std::min(cols - 1, static_cast<int>(std::floor(c.centre.x + half)));
+}
+
 CircleFit FitCircleAlgebraic(std::span<const cv::Point2d> points) {
   CircleFit fit;
   if (points.size() < 3) return fit;

@@ -14,6 +14,11 @@ struct Circle {
   double radius = 0.0;
 };
 
+// Column range [x0, x1] of image row y inside circle c, clipped to
+// [0, cols - 1]; x1 < x0 when the row misses the circle. Pixel centres at
+// integer coordinates.
+void RowSpan(const Circle& c, int y, int cols, int& x0, int& x1);
+
 // Result of a circle fit.
 struct CircleFit {
   bool ok = false;

@@ -20,16 +20,10 @@ std::string IlluminationOptions::Check() const {
 
 cv::Mat CircleMask(cv::Size size, const Circle& circle) {
   cv::Mat mask = cv::Mat::zeros(size, CV_8UC1);
-  const double r2 = circle.radius * circle.radius;
   for (int y = 0; y < size.height; ++y) {
-    const double dy = y - circle.centre.y;
-    const double rest = r2 - dy * dy;
-    if (rest < 0.0) continue;
-    const double half = std::sqrt(rest);
-    const int x0 =
-        std::max(0, static_cast<int>(std::ceil(circle.centre.x - half)));
-    const int x1 = std::min(
-        size.width - 1, static_cast<int>(std::floor(circle.centre.x + half)));
+    int x0 = 0;
+    int x1 = -1;
+    RowSpan(circle, y, size.width, x0, x1);
     if (x1 >= x0) mask.row(y).colRange(x0, x1 + 1).setTo(255);
   }
   return mask;
@@ -47,18 +41,6 @@ cv::Mat SmoothMasked(const cv::Mat& weighted_values, double sigma,
   cv::Mat out;
   cv::divide(product, cv::max(smoothed_weight, 1e-6), out);
   return out;
-}
-
-// Column range [x0, x1] of row y inside the circle (empty: x1 < x0).
-void RowSpan(const Circle& c, int y, int cols, int& x0, int& x1) {
-  const double dy = y - c.centre.y;
-  const double rest = c.radius * c.radius - dy * dy;
-  x0 = 0;
-  x1 = -1;
-  if (rest < 0.0) return;
-  const double half = std::sqrt(rest);
-  x0 = std::max(0, static_cast<int>(std::ceil(c.centre.x - half)));
-  x1 = std::min(cols - 1, static_cast<int>(std::floor(c.centre.x + half)));
 }
 
 // Bilinear lookup tables from full-resolution columns (or rows) into a

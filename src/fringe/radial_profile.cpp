@@ -56,7 +56,6 @@ SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
       image.rows,
       static_cast<int>(std::floor(region.centre.y + region.radius)) + 1);
   if (y_end <= y_begin) return out;
-  const double r2_region = region.radius * region.radius;
   const double sector_width = 2.0 * std::numbers::pi / sectors;
   const double inverse_bin = 1.0 / bin_width_px2;
   std::mutex merge;
@@ -69,15 +68,10 @@ SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
         // row mostly fall into different bins).
         std::vector<std::array<double, 4>> acc(total, {0.0, 0.0, 0.0, 0.0});
         for (int y = rows.start; y < rows.end; ++y) {
-          const double dy_region = y - region.centre.y;
-          const double rest = r2_region - dy_region * dy_region;
-          if (rest < 0.0) continue;
-          const double half = std::sqrt(rest);
-          const int x0 =
-              std::max(0, static_cast<int>(std::ceil(region.centre.x - half)));
-          const int x1 =
-              std::min(image.cols - 1,
-                       static_cast<int>(std::floor(region.centre.x + half)));
+          int x0 = 0;
+          int x1 = -1;
+          RowSpan(region, y, image.cols, x0, x1);
+          if (x1 < x0) continue;
           const float* row = image.ptr<float>(y);
           const double dy = y - centre.y;
           for (int x = x0; x <= x1; ++x) {

@@ -133,21 +133,16 @@ PixelSamples SamplePixels(const cv::Mat& image, const Circle& region,
                           int stride) {
   assert(image.type() == CV_32FC1 && stride >= 1);
   PixelSamples out;
-  const double r2 = region.radius * region.radius;
   const int y0 =
       std::max(0, static_cast<int>(std::ceil(region.centre.y - region.radius)));
   const int y1 =
       std::min(image.rows - 1,
                static_cast<int>(std::floor(region.centre.y + region.radius)));
   for (int y = y0; y <= y1; y += stride) {
-    const double dy = y - region.centre.y;
-    const double rest = r2 - dy * dy;
-    if (rest < 0.0) continue;
-    const double half = std::sqrt(rest);
-    const int x0 =
-        std::max(0, static_cast<int>(std::ceil(region.centre.x - half)));
-    const int x1 = std::min(
-        image.cols - 1, static_cast<int>(std::floor(region.centre.x + half)));
+    int x0 = 0;
+    int x1 = -1;
+    RowSpan(region, y, image.cols, x0, x1);
+    if (x1 < x0) continue;
     const float* row = image.ptr<float>(y);
     for (int x = x0; x <= x1; x += stride) {
       out.x.push_back(static_cast<float>(x));

@@ -296,6 +296,15 @@ Analysis AnalyseAbout(const cv::Mat& flat, const Circle& region,
   return out;
 }
 
+// The message for a ring centre outside the image.
+std::string OutsideMessage(const cv::Point2d& centre, const cv::Mat& image) {
+  return Format(
+      "the ring centre (%.1f, %.1f) px lies outside the image (%.0f x %.0f "
+      "px); re-centre the part or reduce the tilt of the test plate",
+      centre.x, centre.y, static_cast<double>(image.cols),
+      static_cast<double>(image.rows));
+}
+
 }  // namespace
 
 RingDetectionResult DetectRings(const cv::Mat& input,
@@ -357,14 +366,10 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   int inside = 0;
   int saturated = 0;
   for (int y = 0; y < image.rows; ++y) {
-    const double dy = y - region.centre.y;
-    const double rest = region.radius * region.radius - dy * dy;
-    if (rest < 0.0) continue;
-    const double half = std::sqrt(rest);
-    const int x0 =
-        std::max(0, static_cast<int>(std::ceil(region.centre.x - half)));
-    const int x1 = std::min(
-        image.cols - 1, static_cast<int>(std::floor(region.centre.x + half)));
+    int x0 = 0;
+    int x1 = -1;
+    RowSpan(region, y, image.cols, x0, x1);
+    if (x1 < x0) continue;
     const float* row = image.ptr<float>(y);
     for (int x = x0; x <= x1; ++x) saturated += row[x] >= threshold ? 1 : 0;
     inside += std::max(0, x1 - x0 + 1);
@@ -459,14 +464,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   }
   cv::Point2d centre((gradient.centre.x + 0.5) * sx - 0.5,
                      (gradient.centre.y + 0.5) * sy - 0.5);
-  if (!InsideImage(centre, image)) {
-    return fail(
-        Format("the ring centre (%.1f, %.1f) px lies outside the image (%.0f x "
-               "%.0f px); "
-               "re-centre the part or reduce the tilt of the test plate",
-               centre.x, centre.y, static_cast<double>(image.cols),
-               static_cast<double>(image.rows)));
-  }
+  if (!InsideImage(centre, image)) return fail(OutsideMessage(centre, image));
 
   // 5. Period in r^2 from the spectrum of the azimuthal mean profile.
   const double far = cv::norm(region.centre - centre) + region.radius;
@@ -498,14 +496,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
         samples, centre, period, std::max(1.0, factor), 0.02);
     if (refined.ok) centre = refined.centre;
   }
-  if (!InsideImage(centre, image)) {
-    return fail(
-        Format("the ring centre (%.1f, %.1f) px lies outside the image (%.0f x "
-               "%.0f px); "
-               "re-centre the part or reduce the tilt of the test plate",
-               centre.x, centre.y, static_cast<double>(image.cols),
-               static_cast<double>(image.rows)));
-  }
+  if (!InsideImage(centre, image)) return fail(OutsideMessage(centre, image));
   result.centre_px = centre;
 
   // 7.-9. Profiles, numbering and sector points about the sharpest centre,
