@@ -370,7 +370,7 @@ SimulationResult Simulate(const SimulationOptions& options) {
     m << prefix << "gap.contact-offset: the gap would be negative ("
       << all.min_gap * 1e9 << " nm) at pixel (" << all.min_gap_x << ", "
       << min_gap_y
-      << "): the surfaces would overlap; raise contact_offset or reduce the "
+      << "): the surfaces would overlap; raise contact-offset or reduce the "
          "tilt or Zernike terms";
     throw InputError(m.str());
   }
