@@ -155,8 +155,9 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
     out.status = Worse(out.status, Status::kWarning);
     out.messages.push_back(
         "only " + std::to_string(out.fit.ring_count) +
-        " dark rings: the radius is weakly determined; use a test plate that "
-        "fits more closely (or none) or a larger aperture");
+        " dark rings: the radius is weakly determined; for a radius "
+        "measurement, more rings help (a flat or a plate of more different "
+        "radius, a larger aperture)");
   }
   if (out.fit.residual_rms_fringes > kLargeResidualFringes) {
     out.status = Worse(out.status, Status::kWarning);
