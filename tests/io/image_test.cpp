@@ -52,12 +52,6 @@ class PilReference : public ::testing::Test {
     scratch_ = new fs::path(io_test::ScratchDir("pil_ref"));
     rc_ = io_test::CachedPython("pil_ref", R"PY(
 import struct, zlib
-d = sys.argv[0].rsplit('/', 1)[0]
-h, w = 23, 37
-y, x = np.mgrid[0:h, 0:w]
-def pattern(c, bits):  # same formula as io_test::Pattern
-    if bits == 8: return ((x * 7 + y * 13 + c * 50) % 256).astype(np.uint8)
-    return ((x * 1021 + y * 2039 + c * 7919) % 65536).astype(np.uint16)
 g8 = pattern(0, 8)
 rgb8 = np.stack([pattern(c, 8) for c in range(3)], axis=-1)
 Image.fromarray(g8).save(f'{d}/grey8.png')

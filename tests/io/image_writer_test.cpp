@@ -74,13 +74,6 @@ TEST(ImageWriter, TiffReadByTifffile) {
   WriteImage(dir / "f32.tif", PatternMat(CV_32FC1));
   WriteImage(dir / "rgb8.tif", PatternMat(CV_8UC3));
   const int rc = io_test::RunPython(dir, R"PY(
-d = sys.argv[0].rsplit('/', 1)[0]
-h, w = 23, 37
-y, x = np.mgrid[0:h, 0:w]
-def pattern(c, bits):  # same formula as io_test::Pattern
-    if bits == 8: return ((x * 7 + y * 13 + c * 50) % 256).astype(np.uint8)
-    if bits == 16: return ((x * 1021 + y * 2039 + c * 7919) % 65536).astype(np.uint16)
-    return ((x - 0.5 * y + 0.25 * c) * 0.125).astype(np.float32)
 ok = True
 for name, want in (('g16', pattern(0, 16)), ('f32', pattern(0, 32)),
                    ('rgb8', np.stack([pattern(c, 8) for c in range(3)], axis=-1))):

@@ -242,14 +242,29 @@ inline double ExpectedGrey(const TiffSpec& spec, int x, int y) {
 // Runs a Python script with Debian's /usr/bin/python3 (not the one on PATH).
 // Returns the exit status; 77 means a module is missing (the script should
 // exit 77 on ImportError) and the caller skips.
+// Every script starts with this: the imports, its folder `d`, and
+// pattern(c, bits), the same formula as io_test::Pattern, on 23 rows x 37
+// columns.
+inline constexpr const char* kPythonPreamble = R"PY(import sys
+try:
+    import numpy as np, tifffile
+    from PIL import Image
+except ImportError:
+    sys.exit(77)
+d = sys.argv[0].rsplit('/', 1)[0]
+h, w = 23, 37
+y, x = np.mgrid[0:h, 0:w]
+def pattern(c, bits):  # same formula as io_test::Pattern
+    if bits == 8: return ((x * 7 + y * 13 + c * 50) % 256).astype(np.uint8)
+    if bits == 16: return ((x * 1021 + y * 2039 + c * 7919) % 65536).astype(np.uint16)
+    return ((x - 0.5 * y + 0.25 * c) * 0.125).astype(np.float32)
+)PY";
+
 inline int RunPython(const fs::path& dir, const std::string& script) {
   const fs::path file = dir / "script.py";
   {
     std::ofstream out(file);
-    out << "import sys\ntry:\n    import numpy as np, tifffile\n    from PIL "
-           "import Image\n"
-           "except ImportError:\n    sys.exit(77)\n"
-        << script;
+    out << kPythonPreamble << script;
   }
   if (!fs::exists("/usr/bin/python3")) return 77;
   const std::string cmd = "/usr/bin/python3 '" + file.string() + "'";
@@ -265,7 +280,8 @@ inline int RunPython(const fs::path& dir, const std::string& script) {
 inline int CachedPython(const std::string& name, const std::string& script,
                         fs::path* dir) {
   const fs::path cache = fs::path(FIGURA_TEST_TMP) / "io" / "cache";
-  *dir = cache / (name + "-" + Sha256Hex(script).substr(0, 16));
+  *dir =
+      cache / (name + "-" + Sha256Hex(kPythonPreamble + script).substr(0, 16));
   if (fs::exists(*dir / "done")) return 0;
   fs::create_directories(cache);
   const fs::path work = cache / (name + ".tmp" + ProcessSuffix());

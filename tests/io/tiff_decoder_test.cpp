@@ -225,13 +225,6 @@ class TifffileReference : public ::testing::Test {
     scratch_ = new fs::path(io_test::ScratchDir("tifffile_ref"));
     rc_ = io_test::CachedPython("tifffile_ref", R"PY(
 import os
-d = sys.argv[0].rsplit('/', 1)[0]
-h, w = 23, 37
-y, x = np.mgrid[0:h, 0:w]
-def pattern(c, bits):  # same formula as io_test::Pattern
-    if bits == 8: return ((x * 7 + y * 13 + c * 50) % 256).astype(np.uint8)
-    if bits == 16: return ((x * 1021 + y * 2039 + c * 7919) % 65536).astype(np.uint16)
-    return ((x - 0.5 * y + 0.25 * c) * 0.125).astype(np.float32)
 for bits in (8, 16, 32):
     g = pattern(0, bits)
     tifffile.imwrite(f'{d}/grey{bits}.tif', g, rowsperstrip=5)
