@@ -30,6 +30,7 @@
 #include "optics/sphere.h"
 #include "phase/carrier.h"
 #include "phase/closed_fringe.h"
+#include "phase/unwrap.h"
 #include "surface/form_metrics.h"
 #include "surface/zernike_fit.h"
 
