@@ -28,6 +28,13 @@
 
 namespace figura {
 
+// Fraction of the clear aperture's radius over which a map traces closed
+// fringes: more than the map's evaluated fraction (0.95), so that a photo
+// with about 3 fringes of power still shows the 3 fringes the ring
+// detection needs, and the fit is held by samples just beyond rho = 1
+// [practice: the edge 1 % is lost to the blurred rim].
+inline constexpr double kClosedTraceFraction = 0.99;
+
 // Settings of closed-fringe tracing.
 struct ClosedFringeOptions {
   // Aperture overrides, evaluated fraction, sectors (72 by default here:
@@ -35,6 +42,7 @@ struct ClosedFringeOptions {
   RingDetectionOptions detection = [] {
     RingDetectionOptions d;
     d.sectors = 72;
+    d.aperture_fraction = kClosedTraceFraction;
     return d;
   }();
   MediaStack stack;

@@ -176,11 +176,12 @@ void CarrierMap(const Image& image, const MapOptions& o, const cv::Mat& mask,
 
 // The closed-fringe path: trace, fit the samples, evaluate the fit.
 void ClosedMap(const Image& image, const MapOptions& o, const cv::Mat& mask,
-               MapResult* r) {
+               const Circle& clear, MapResult* r) {
   ClosedFringeOptions co;
-  co.detection.aperture_centre_px = r->aperture_px.centre;
-  co.detection.aperture_diameter_px = 2.0 * r->aperture_px.radius;
-  co.detection.aperture_fraction = 1.0;  // r->aperture_px is evaluated already
+  co.detection.aperture_centre_px = clear.centre;
+  co.detection.aperture_diameter_px = 2.0 * clear.radius;
+  co.detection.aperture_fraction =
+      std::max(kClosedTraceFraction, o.aperture_fraction);
   if (image.info.full_scale > 0.0 && !image.info.is_float) {
     co.detection.full_scale = image.info.full_scale;
   }
@@ -339,6 +340,7 @@ MapResult AnalyseMap(const Image& image, const MapOptions& options) {
     r.aperture_px = a.circle;
     r.aperture_detected = true;
   }
+  const Circle clear = r.aperture_px;
   r.aperture_px.radius *= options.aperture_fraction;
   if (r.aperture_px.radius < kMinMapRadiusPx) {
     r.status = Status::kError;
@@ -381,7 +383,7 @@ MapResult AnalyseMap(const Image& image, const MapOptions& options) {
   if (mode == MapMode::kCarrier) {
     CarrierMap(image, options, mask, &r);
   } else {
-    ClosedMap(image, options, mask, &r);
+    ClosedMap(image, options, mask, clear, &r);
     if (r.status == Status::kError && options.mode == MapMode::kAuto) {
       r.messages.insert(r.messages.begin(),
                         "no fringes to map: no carrier (" +
