@@ -10,6 +10,7 @@
 //     "job": {"path", "settings": {...every analysis and tolerance setting},
 //             "settings_sha256": "..."},   // equal settings <=> equal hash
 //     "tolerance": FormToleranceJson(...), "decision_rule": "iso14253-1",
+//     "decision_rule_text": DecisionRuleDescription(...),
 //     "started_utc": "2026-12-02T07:30:00Z", "finished_utc": "...",
 //     "interrupted": false,        // true: stopped early (SIGINT)
 //     "inputs_total": 12,          // inputs given (rows may be fewer only
@@ -27,10 +28,10 @@
 //        "message": "one line: the first warning or the error",
 //        "input_sha256": "..." | "",
 //        "result_json": "P-001.json" | "",  // relative to the summary
-//        "report_pdf": "P-001.pdf" | "",
-//        "picture": "P-001.png" | "",       // overlay / surface picture
+//        "pdf": "P-001.pdf" | "",
+//        "thumbnail": "P-001.png" | "",     // overlay / surface picture
 //        "skipped": false,     // true: unchanged since the last run, reused
-//        "values": {"radius_of_curvature_mm": 100.02 | null, ...}
+//        "radius_of_curvature_mm": 100.02 | null, ...  // one per column
 //     }, ...],                 // in input order
 //     "shards": [{"folder", "started_utc", "finished_utc", "parts"}]  // merge
 //   }
@@ -75,9 +76,9 @@ struct LotRow {
   std::string message;  // first warning or the error; empty when clean
   std::string input_sha256;
   std::string result_json;  // file names relative to the summary's folder
-  std::string report_pdf;
-  std::string picture;
-  bool skipped = false;  // reused from an earlier run
+  std::string pdf;
+  std::string thumbnail;  // overlay / surface picture (PNG)
+  bool skipped = false;   // reused from an earlier run
   // Numbers by column key; NaN when not available.
   std::map<std::string, double> values;
 
@@ -104,6 +105,7 @@ struct LotSummary {
   std::string settings_sha256;
   nlohmann::json tolerance = nlohmann::json::object();
   std::string decision_rule;
+  std::string decision_rule_text;
   std::string started_utc;
   std::string finished_utc;
   bool interrupted = false;
