@@ -1,0 +1,192 @@
+// `figura map IMAGE...`: surface maps from open (carrier) or closed fringes.
+// Parses and validates the options, then calls the library
+// (surface/surface_map.h) per image and writes the summary, JSON, the height
+// map (32-bit float TIFF in nm, NaN outside) and the false-colour picture.
+// One image gives one JSON object; several give an array in input order.
+#include <cctype>
+#include <filesystem>
+#include <iostream>
+#include <limits>
+#include <string>
+#include <vector>
+
+#include "cli/command.h"
+#include "cli/options.h"
+#include "core/error.h"
+#include "io/image.h"
+#include "io/image_writer.h"
+#include "io/result_json.h"
+#include "report/surface_picture.h"
+#include "surface/surface_map.h"
+
+namespace figura::cli {
+namespace {
+
+constexpr const char* kUsage = "IMAGE... --wavelength W [options]";
+
+// "X,Y" in pixels. (The same parsing as `figura rings`; to move to
+// cli/options.h.)
+cv::Point2d ParsePixelPoint(const std::string& text, const std::string& what) {
+  const std::size_t comma = text.find(',');
+  if (comma == std::string::npos) {
+    throw InputError(what + ": '" + text +
+                     "' must be X,Y in pixels, e.g. 512.5,384");
+  }
+  return {ParseNumber(text.substr(0, comma), what),
+          ParseNumber(text.substr(comma + 1), what)};
+}
+
+// Output path for input number i of n: the path itself for one input,
+// "<stem>-<input stem><ext>" for several. (As in `figura rings`; to move to
+// cli/options.h.)
+std::filesystem::path OutputFor(const std::string& path,
+                                const std::string& input, int n) {
+  if (n <= 1) return path;
+  const std::filesystem::path p(path);
+  return p.parent_path() / (p.stem().string() + "-" +
+                            std::filesystem::path(input).stem().string() +
+                            p.extension().string());
+}
+
+// The height map in nm as float, NaN outside the valid area.
+cv::Mat HeightNm(const MapResult& r) {
+  cv::Mat nm;
+  r.height_m.convertTo(nm, CV_32F, 1e9);
+  return nm;
+}
+
+int Run(const std::vector<std::string>& args) {
+  po::options_description desc("map options");
+  MapOptions options;
+  std::vector<std::string> images;
+  std::string json_path, height_path, picture_path, contact, thin_side;
+  std::string mode = "auto", aperture_centre, aperture_diameter;
+  // clang-format off
+  desc.add_options()
+      ("image", po::value(&images)->multitoken(), "fringe photographs (TIFF, PNG, JPEG, BMP)")
+      ("wavelength", po::value<Wavelength>(&options.wavelength)->required(),
+       "test wavelength in air: a length (587.56nm) or a source name from config/sources.ini")
+      ("view", po::value<View>(&options.view)->default_value(View::kReflected, "reflected"),
+       "reflected or transmitted light")
+      ("contact", po::value(&contact),
+       "closed fringes: where the surfaces touch (press test), centre or edge; "
+       "sets the sign (centre assumed when absent)")
+      ("thin-side", po::value(&thin_side),
+       "carrier fringes: the side of the photo where the gap is thinnest (press test), "
+       "left, right, top or bottom; sets the sign (left assumed when absent)")
+      ("terms", po::value<int>(&options.max_order)->default_value(options.max_order),
+       "highest Zernike radial order fitted (2..12)")
+      ("mode", po::value(&mode)->default_value("auto"),
+       "auto (carrier when the spectrum shows one, else closed), carrier or closed")
+      ("pixel-pitch", po::value<Length>(),
+       "object-side size of one pixel, e.g. 60um (optional: mm axes and sizes)")
+      ("aperture-centre", po::value(&aperture_centre),
+       "clear aperture centre X,Y in pixels (detected when absent)")
+      ("aperture-diameter", po::value(&aperture_diameter),
+       "clear aperture diameter: pixels (a bare number) or a length with --pixel-pitch")
+      ("aperture-fraction",
+       po::value<double>(&options.aperture_fraction)->default_value(options.aperture_fraction),
+       "fraction of the aperture radius evaluated")
+      ("json", po::value(&json_path), "write the result JSON to PATH ('-' for standard output)")
+      ("height", po::value(&height_path),
+       "write the height map (gap, nm) as a 32-bit float TIFF, NaN outside the aperture")
+      ("picture", po::value(&picture_path),
+       "write a false-colour picture (PNG) with a colour bar and two profiles");
+  // clang-format on
+  AddMediaOptions(desc, &options.stack);
+  po::positional_options_description positional;
+  positional.add("image", -1);
+  po::variables_map vm;
+  if (!ParseCommand("map", kUsage, args, desc, positional, &vm, std::cout))
+    return kExitOk;
+
+  if (images.empty()) throw InputError("no input: give one or more images");
+  options.mode = ParseMapMode(mode, "--mode");
+  if (!contact.empty()) {
+    options.contact = ParseContact(contact, "--contact");
+    options.contact_given = true;
+  }
+  if (!thin_side.empty()) {
+    options.thin_side = ParseThinSide(thin_side, "--thin-side");
+    options.thin_side_given = true;
+  }
+  if (vm.count("pixel-pitch") != 0U) {
+    options.pixel_pitch_m = vm["pixel-pitch"].as<Length>().metres;
+  }
+  if (!aperture_centre.empty()) {
+    options.aperture_centre_px =
+        ParsePixelPoint(aperture_centre, "--aperture-centre");
+  }
+  if (!aperture_diameter.empty()) {
+    const std::string_view t = Trim(aperture_diameter);
+    const bool has_unit =
+        !t.empty() && std::isalpha(static_cast<unsigned char>(t.back())) != 0;
+    if (has_unit) {
+      const Length d = ParseLength(t, "--aperture-diameter");
+      if (!options.pixel_pitch_m) {
+        throw InputError(
+            "--aperture-diameter: a length needs --pixel-pitch (or give "
+            "pixels, e.g. 480)");
+      }
+      options.aperture_diameter_px = d.metres / *options.pixel_pitch_m;
+    } else {
+      options.aperture_diameter_px = ParseNumber(t, "--aperture-diameter");
+    }
+  }
+  if (std::string why = options.Check(); !why.empty()) throw InputError(why);
+
+  const int n = static_cast<int>(images.size());
+  int exit_code = kExitOk;
+  nlohmann::json all = nlohmann::json::array();
+  std::ostream& out = json_path == "-" ? std::cerr : std::cout;
+  for (const std::string& path : images) {
+    Image image;
+    try {
+      image = LoadImage(path);
+    } catch (const InputError& e) {
+      std::cerr << "figura map: error: " << e.what() << "\n";
+      exit_code = kExitInput;
+      all.push_back({{"input", {{"path", path}}},
+                     {"settings", MapSettingsJson(options)},
+                     {"tool", ToolJson()},
+                     {"status", StatusJson(Status::kError, {e.what()})}});
+      continue;
+    }
+    const MapResult result = AnalyseMap(image, options);
+    out << MapSummary(result, options, path);
+    all.push_back(MapJson(result, options, InputJson(image.info)));
+    if (result.status == Status::kError) {
+      std::cerr << "figura map: error: " << path << ": "
+                << (result.messages.empty() ? "analysis failed"
+                                            : result.messages.front())
+                << "\n";
+      exit_code = kExitInput;
+      continue;
+    }
+    if (!height_path.empty()) {
+      WriteImage(OutputFor(height_path, path, n), HeightNm(result));
+    }
+    if (!picture_path.empty()) {
+      SurfacePictureOptions po_picture;
+      if (options.pixel_pitch_m)
+        po_picture.pixel_pitch_m = *options.pixel_pitch_m;
+      const std::string title =
+          std::filesystem::path(path).filename().string() + " - gap map (" +
+          MapModeName(result.mode) + " fringes), piston and tilt removed";
+      WriteSurfacePicture(OutputFor(picture_path, path, n), result.height_m,
+                          result.unreliable, result.aperture_px,
+                          options.wavelength.value.metres, title, po_picture);
+    }
+  }
+  if (!json_path.empty()) WriteJson(json_path, n == 1 ? all.front() : all);
+  return exit_code;
+}
+
+const Registrar kRegistrar(
+    {"map",
+     "surface map from carrier or closed fringes: height map, Zernike terms, "
+     "PV, RMS, power, irregularity (ISO 10110-5 A, B, C)",
+     &Run});
+
+}  // namespace
+}  // namespace figura::cli
