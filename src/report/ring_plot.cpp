@@ -13,6 +13,7 @@
 
 #include "core/error.h"
 #include "io/atomic_file.h"
+#include "report/axis_ticks.h"
 
 namespace figura {
 namespace {
@@ -24,32 +25,6 @@ struct Series {
   std::vector<double> order, r2_mm2, resid;
   std::vector<bool> rejected;
 };
-
-std::string Tick(double v) {
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.4g", v);
-  return buf;
-}
-
-// Round tick values (1, 2 or 5 times a power of ten apart, about five of
-// them) within [lo, hi].
-std::vector<double> NiceTicks(double lo, double hi) {
-  std::vector<double> ticks;
-  const double span = hi - lo;
-  if (!(span > 0.0) || !std::isfinite(span)) return ticks;
-  const double raw = span / 5.0;
-  const double decade = std::pow(10.0, std::floor(std::log10(raw)));
-  double step = decade;
-  for (const double m : {1.0, 2.0, 5.0, 10.0}) {
-    step = m * decade;
-    if (step >= raw) break;
-  }
-  for (double v = std::ceil(lo / step) * step; v <= hi + 1e-9 * step;
-       v += step) {
-    ticks.push_back(std::abs(v) < 1e-9 * step ? 0.0 : v);
-  }
-  return ticks;
-}
 
 // Axis range with a margin, never empty.
 void Range(const std::vector<double>& v, double* lo, double* hi) {
@@ -96,10 +71,10 @@ void Frame(cairo_t* cr, const Panel& p, const std::string& xlabel,
   cairo_stroke(cr);
   cairo_set_font_size(cr, 11.0);
   for (const double xv : NiceTicks(p.xlo, p.xhi)) {
-    Text(cr, p.X(xv), p.y0 + p.h + 14.0, Tick(xv), 0.5);
+    Text(cr, p.X(xv), p.y0 + p.h + 14.0, TickLabel(xv), 0.5);
   }
   for (const double yv : NiceTicks(p.ylo, p.yhi)) {
-    Text(cr, p.x0 - 6.0, p.Y(yv) + 4.0, Tick(yv), 1.0);
+    Text(cr, p.x0 - 6.0, p.Y(yv) + 4.0, TickLabel(yv), 1.0);
   }
   cairo_set_font_size(cr, 12.0);
   if (!xlabel.empty())
@@ -151,18 +126,23 @@ void Draw(cairo_t* cr, const Series& s, const RingsResult& r,
   Frame(cr, bottom, "fringe order (relative, dark at integer + d)",
         std::string("residual (") + unit + ")");
 
-  // Fit line: r^2 = (sign * order - P(c)) / a_mean, px^2 -> mm^2.
+  // Fit line: the model's r^2 at each order for the mean curvature (the
+  // conic made isotropic), with the exact higher-order sag terms, px^2 ->
+  // mm^2.
   const double pitch_mm = r.from_diameters ? 1e-3
                                            : options.pixel_pitch.metres *
                                                  1e3;  // diameters: 1 um units
+  RingFitResult mean_fit = f;
   const double a_mean = 0.5 * (f.quad_px2[0] + f.quad_px2[2]);
+  mean_fit.quad_px2[0] = mean_fit.quad_px2[2] = a_mean;
+  mean_fit.quad_px2[1] = 0.0;
   cairo_set_source_rgb(cr, 0.1, 0.3, 0.8);
   cairo_set_line_width(cr, 1.5);
   bool first = true;
   for (int i = 0; i <= 100; ++i) {
     const double m = top.xlo + (top.xhi - top.xlo) * i / 100.0;
-    const double r2 =
-        (f.contact_sign * m - f.centre_value) / a_mean * pitch_mm * pitch_mm;
+    const double r_px = FittedRadiusPx(mean_fit, m, 0.0);
+    const double r2 = r_px * r_px * pitch_mm * pitch_mm;
     if (!(r2 >= top.ylo && r2 <= top.yhi)) continue;
     if (first) {
       cairo_move_to(cr, top.X(m), top.Y(r2));
