@@ -81,6 +81,9 @@ int Run(const std::vector<std::string>& args) {
       ("aperture-diameter", po::value(&aperture_diameter),
        "clear aperture diameter: pixels (a bare number) or a length; with --diameters the "
        "evaluated diameter as a length")
+      ("test-diameter", po::value<Length>(),
+       "diameter over which sag, power and astigmatism are reported (the drawing's test "
+       "region, e.g. 20mm); default: the evaluated aperture")
       ("sectors", po::value<int>(&options.detection.sectors)->default_value(options.detection.sectors),
        "azimuth sectors in which fringes are located")
       ("outlier-threshold",
@@ -99,6 +102,9 @@ int Run(const std::vector<std::string>& args) {
 
   if (vm.count("reference-radius") != 0U) {
     fit.reference_radius = vm["reference-radius"].as<Length>();
+  }
+  if (vm.count("test-diameter") != 0U) {
+    fit.test_diameter = vm["test-diameter"].as<Length>();
   }
   fit.contact = ParseContact(contact, "--contact");
   const bool diameter_mode = !diameters.empty();

@@ -60,12 +60,7 @@ int Run(const std::vector<std::string>& args) {
           .count();
   WriteSimulation(result, out_path, options.camera);
   if (!json_path.empty()) {
-    nlohmann::json truth = result.truth;
-    truth["image"] = {{"path", out_path},
-                      {"width", result.image.cols},
-                      {"height", result.image.rows},
-                      {"bit_depth", options.camera.bit_depth}};
-    WriteJson(json_path, truth);
+    WriteJson(json_path, SimulationTruthJson(result, out_path, options.camera));
   }
   std::ostream& log = json_path == "-" ? std::cerr : std::cout;
   const nlohmann::json& t = result.truth["truth"];

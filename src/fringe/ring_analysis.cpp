@@ -227,6 +227,9 @@ nlohmann::json RingsSettingsJson(const RingsOptions& options,
       {"aperture_diameter_mm", f.aperture_diameter
                                    ? nlohmann::json(f.aperture_diameter->mm())
                                    : nlohmann::json(nullptr)},
+      {"test_diameter_mm", f.test_diameter
+                               ? nlohmann::json(f.test_diameter->mm())
+                               : nlohmann::json(nullptr)},
       {"outlier_threshold", f.outlier_threshold},
       {"coverage_factor", f.coverage_factor},
   };
@@ -339,7 +342,8 @@ std::string RingsSummary(const RingsResult& r, const std::string& name) {
       out << " +- " << Fixed(f.order_offset_u, 3);
     }
     out << "   rings " << f.ring_count << "\n";
-    out << "  aperture " << Fixed(f.aperture_diameter_m * 1e3, 3) << " mm: sag "
+    out << (f.over_test_diameter ? "  test diameter " : "  aperture ")
+        << Fixed(f.aperture_diameter_m * 1e3, 3) << " mm: sag "
         << Num(f.sag_m * 1e6, 6) << " um, power " << Fixed(f.power_fringes, 2)
         << " fringes";
     if (f.has_uncertainty) out << " +- " << Fixed(f.power_u_fringes, 2);

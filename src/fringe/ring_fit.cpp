@@ -177,6 +177,10 @@ std::string RingFitOptions::Check() const {
         reference_radius_u.metres >= 0.0)) {
     return "the reference radius uncertainty must be zero or positive";
   }
+  if (test_diameter &&
+      !(std::isfinite(test_diameter->metres) && test_diameter->metres > 0.0)) {
+    return "--test-diameter must be a positive length";
+  }
   if (aperture_diameter && !(std::isfinite(aperture_diameter->metres) &&
                              aperture_diameter->metres > 0.0)) {
     return "--aperture-diameter must be positive";
@@ -490,6 +494,10 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
                    centre_guess_px.y + scale * yc};
   const double value_c = Evaluate(q, xc, yc);
   out.centre_value = value_c;
+  out.model_part_radius_m = part_radius;
+  out.model_reference_radius_m = r_ref;
+  out.fringes_per_metre = k_fringe;
+  out.pixel_pitch_m = pitch;
   const double order_c = sign * value_c;
   out.centre_order_fraction =
       order_c - d_offset - std::floor(order_c - d_offset);
@@ -507,9 +515,21 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
     if (inlier[j])
       r_max_px = std::max(r_max_px, std::hypot(xs[j] - xc, ys[j] - yc) * scale);
   }
-  out.aperture_diameter_m = options.aperture_diameter
-                                ? options.aperture_diameter->metres
-                                : 2.0 * r_max_px * pitch;
+  // The test diameter (ISO 10110: the region the tolerance applies to)
+  // when given, else the evaluated aperture.
+  out.aperture_diameter_m =
+      options.test_diameter       ? options.test_diameter->metres
+      : options.aperture_diameter ? options.aperture_diameter->metres
+                                  : 2.0 * r_max_px * pitch;
+  out.over_test_diameter = options.test_diameter.has_value();
+  if (options.test_diameter &&
+      options.test_diameter->metres > 2.0 * r_max_px * pitch * 1.05) {
+    out.messages.push_back(
+        "the test diameter (" + FormatLength(*options.test_diameter) +
+        ") reaches beyond the outermost fringe used (" +
+        FormatLength(Length::Metres(2.0 * r_max_px * pitch)) +
+        " across): power and sag there are extrapolated");
+  }
   const double half = 0.5 * out.aperture_diameter_m;
   const double rho_px = half / pitch;
 
@@ -642,7 +662,7 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   // Residuals per input point, ring count, statistics.
   double sum_px = 0.0;
   double sum_fr = 0.0;
-  std::set<long> dark_rings;
+  std::set<long> dark_rings, bright_rings;
   for (std::size_t j = 0; j < n; ++j) {
     const double u = xs[j] - xc;
     const double v = ys[j] - yc;
@@ -662,10 +682,16 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
     if (std::isfinite(res_px)) sum_px += res_px * res_px;
     sum_fr += resid[j] * resid[j];
     const double rel = points[idx[j]].order - d_offset;
-    if (std::abs(rel - std::round(rel)) < 0.25)
+    if (std::abs(rel - std::round(rel)) < 0.25) {
       dark_rings.insert(std::lround(rel));
+    } else {
+      bright_rings.insert(std::lround(std::floor(rel)));
+    }
   }
-  out.ring_count = static_cast<int>(dark_rings.size());
+  // Dark rings are what an optician counts; a set of bright rings only (a
+  // diameter file read on the maxima) is counted by its bright rings.
+  out.ring_count = static_cast<int>(dark_rings.empty() ? bright_rings.size()
+                                                       : dark_rings.size());
   out.residual_rms_px =
       std::sqrt(sum_px / static_cast<double>(out.points_used));
   out.residual_rms_fringes =
@@ -699,7 +725,19 @@ double FittedRadiusPx(const RingFitResult& fit, double order,
   const double s = std::sin(angle_rad);
   const double quad = fit.quad_px2[0] * c * c + 2.0 * fit.quad_px2[1] * c * s +
                       fit.quad_px2[2] * s * s;
-  const double t2 = (fit.contact_sign * order - fit.centre_value) / quad;
+  const double paraxial = fit.contact_sign * order - fit.centre_value;
+  double t2 = paraxial / quad;
+  // The fit's targets carry the exact higher-order gap terms:
+  //   sign m - k H(r) = centre_value + quad t^2;
+  // a few fixed-point steps solve for t (H is a small correction).
+  const bool exact = std::isfinite(fit.model_part_radius_m) &&
+                     fit.fringes_per_metre > 0.0 && fit.pixel_pitch_m > 0.0;
+  for (int i = 0; exact && i < 8 && t2 >= 0.0 && std::isfinite(t2); ++i) {
+    const double h =
+        HigherOrderGap(std::sqrt(t2) * fit.pixel_pitch_m,
+                       fit.model_part_radius_m, fit.model_reference_radius_m);
+    t2 = (paraxial - fit.fringes_per_metre * h) / quad;
+  }
   return t2 >= 0.0 && std::isfinite(t2) ? std::sqrt(t2) : kNaN;
 }
 

@@ -30,6 +30,7 @@
 // of 50 random simulated photos (tests/fringe/ring_accuracy_test.cpp).
 #pragma once
 
+#include <limits>
 #include <opencv2/core.hpp>
 #include <optional>
 #include <string>
@@ -60,6 +61,10 @@ struct RingFitOptions {
   // Evaluated aperture diameter (object side). Absent: twice the largest
   // fringe radius used.
   std::optional<Length> aperture_diameter;
+  // Test diameter (object side): the region over which sag, power and
+  // astigmatism are reported (ISO 10110-5 tolerances apply over a stated
+  // test region). Absent: the evaluated aperture.
+  std::optional<Length> test_diameter;
   double outlier_threshold =
       4.0;  // rejection limit in robust (MAD) standard deviations
   double coverage_factor =
@@ -149,9 +154,13 @@ struct RingFitResult {
   FringeState centre_predicted = FringeState::kDark;
   double centre_order_fraction =
       0.0;  // relative order at the centre, mod 1 (0 dark, 0.5 bright)
-  int ring_count = 0;  // distinct dark fringes used
+  int ring_count = 0;  // distinct dark fringes used (bright ones when the
+                       // data hold no dark fringe)
 
+  // Diameter over which sag, power and astigmatism are given: the test
+  // diameter, else the evaluated aperture.
   double aperture_diameter_m = 0.0;
+  bool over_test_diameter = false;  // aperture_diameter_m is the test diameter
   double sag_m = 0.0;  // exact sphere sag of the part over the aperture
   double power_fringes =
       0.0;  // gap change centre -> edge in fringes (exact sags)
@@ -179,6 +188,14 @@ struct RingFitResult {
   double quad_px2[3] = {0.0, 0.0, 0.0};
   double centre_value = 0.0;
   double contact_sign = 1.0;
+  // The exact higher-order terms of the model (FittedRadiusPx): the part
+  // and reference radii as the fit uses them internally (the reference
+  // mirrored, infinity for a flat), fringes per metre of gap (2 n_gap /
+  // lambda) and the pixel pitch (m).
+  double model_part_radius_m = std::numeric_limits<double>::quiet_NaN();
+  double model_reference_radius_m = std::numeric_limits<double>::infinity();
+  double fringes_per_metre = 0.0;
+  double pixel_pitch_m = 0.0;
 };
 
 // Constants of the ring-detection systematic (RingFitResult::u_rel_detection).
@@ -198,8 +215,9 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
                        RingModel model = RingModel::kConic);
 
 // The radial position (px from the fitted centre, along the direction
-// `angle_rad` in image coordinates) where the fitted conic reaches `order`;
-// NaN when it does not. For overlays and plots.
+// `angle_rad` in image coordinates) where the fitted model (the conic plus
+// the exact higher-order sag terms) reaches `order`; NaN when it does not.
+// For overlays and plots.
 double FittedRadiusPx(const RingFitResult& fit, double order, double angle_rad);
 
 // Offset of the minima d (0 or 1/2) for a stack and view.

@@ -697,13 +697,9 @@ std::filesystem::path TruthPathFor(const std::filesystem::path& image_path) {
   return out;
 }
 
-void WriteSimulation(const SimulationResult& result,
-                     const std::filesystem::path& image_path,
-                     const CameraOptions& camera) {
-  if (std::string m = CheckOutputPath(image_path, camera.bit_depth);
-      !m.empty()) {
-    throw InputError(m);
-  }
+nlohmann::json SimulationTruthJson(const SimulationResult& result,
+                                   const std::filesystem::path& image_path,
+                                   const CameraOptions& camera) {
   nlohmann::json truth = result.truth;
   std::string format = Lower(image_path.extension().string());
   format = format == ".png"                          ? "png"
@@ -714,10 +710,21 @@ void WriteSimulation(const SimulationResult& result,
                     {"width", result.image.cols},
                     {"height", result.image.rows},
                     {"bit_depth", camera.bit_depth}};
+  return truth;
+}
+
+void WriteSimulation(const SimulationResult& result,
+                     const std::filesystem::path& image_path,
+                     const CameraOptions& camera) {
+  if (std::string m = CheckOutputPath(image_path, camera.bit_depth);
+      !m.empty()) {
+    throw InputError(m);
+  }
   ImageWriteOptions write;
   write.jpeg_quality = camera.jpeg_quality;
   WriteImage(image_path, result.image, write);
-  WriteJson(TruthPathFor(image_path).string(), truth);
+  WriteJson(TruthPathFor(image_path).string(),
+            SimulationTruthJson(result, image_path, camera));
 }
 
 }  // namespace figura

@@ -111,6 +111,13 @@ std::string CheckOutputPath(const std::filesystem::path& image_path,
 // The truth file written beside an image: "<stem>.truth.json".
 std::filesystem::path TruthPathFor(const std::filesystem::path& image_path);
 
+// The truth object of a simulation written as `image_path`: the
+// simulation's truth plus an `image` block (path, format from the
+// extension, width, height, bit_depth).
+nlohmann::json SimulationTruthJson(const SimulationResult& result,
+                                   const std::filesystem::path& image_path,
+                                   const CameraOptions& camera);
+
 // Writes the image and its truth (TruthPathFor) atomically, after adding
 // the image path and format to the truth. Throws OutputError (or InputError
 // for an extension that does not fit the bit depth).

@@ -7,6 +7,7 @@
 
 #include <cmath>
 #include <random>
+#include <sstream>
 #include <string>
 
 #include "core/error.h"
@@ -102,6 +103,25 @@ TEST(RingDiameters, LeastSquaresWithUncertainty) {
   }
   EXPECT_GE(covered, trials * 88 / 100);
   EXPECT_GE(covered_e, trials * 88 / 100);
+}
+
+TEST(RingDiameters, BrightRingsOnlyAreCounted) {
+  // Bright rings of a sphere on a flat in air, reflected light: dark centre,
+  // maxima at r^2 = (m + 1/2) lambda R (Hecht, Optics, sec. 9.4).
+  const double lambda = 589.3e-9;
+  const double radius = 1.0;
+  std::ostringstream csv;
+  csv << "order,diameter,kind\n";
+  csv.precision(10);
+  for (int m = 1; m <= 8; ++m) {
+    const double r = std::sqrt((m + 0.5) * lambda * radius);
+    csv << m << "," << 2.0 * r * 1e3 << "mm,bright\n";
+  }
+  const RingFitResult fit = FitRingDiameters(
+      ParseRingDiameters(csv.str(), "bright.csv"), Options(lambda));
+  ASSERT_NE(fit.status, Status::kError) << fit.messages.front();
+  EXPECT_EQ(fit.ring_count, 8);
+  EXPECT_NEAR(fit.radius_m, radius, 1e-5);
 }
 
 TEST(RingDiameters, LiquidInTheGap) {

@@ -5,10 +5,12 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <numbers>
 #include <random>
+#include <string>
 #include <vector>
 
 #include "optics/sphere.h"
@@ -142,8 +144,7 @@ TEST(RingFit, TestPlateCentreAndEdgeContact) {
     const RingFitResult fit = FitRings(MakePoints(t), OptionsFor(t), Guess(t));
     ASSERT_NE(fit.status, Status::kError) << fit.messages.front();
     EXPECT_TRUE(fit.test_plate);
-    EXPECT_NEAR(fit.part_radius_m / part, 1.0, 1e-9)
-        << ContactName(t.contact);
+    EXPECT_NEAR(fit.part_radius_m / part, 1.0, 1e-9) << ContactName(t.contact);
     EXPECT_NEAR(fit.deviation_m, part - 0.100, 1e-10);
     // Power over the evaluated aperture from the exact sags (sphere.h).
     const double half = 0.5 * fit.aperture_diameter_m;
@@ -162,14 +163,14 @@ TEST(RingFit, TestPlateWorkedExample) {
   EXPECT_NEAR(approx, 48.5e-6, 0.05e-6);
   // Exact inverse: the part steeper than the plate (contact at the centre)
   // by exactly 2 fringes.
-  const double part = PartRadiusFromFringes(plate, 0.030, 2.0, kLambda, 1.0,
-                                            Contact::kCentre);
+  const double part =
+      PartRadiusFromFringes(plate, 0.030, 2.0, kLambda, 1.0, Contact::kCentre);
   EXPECT_NEAR(GapFringes(SphereGap(part, plate, 0.015), kLambda), 2.0, 1e-9);
   // Exact dR is smaller than the estimate by about the ratio 2 / 2.033.
   EXPECT_NEAR((0.100 - part) / approx, 2.0 / 2.033, 2e-3);
   // Edge contact: the part is flatter.
-  const double flat = PartRadiusFromFringes(plate, 0.030, 2.0, kLambda, 1.0,
-                                            Contact::kEdge);
+  const double flat =
+      PartRadiusFromFringes(plate, 0.030, 2.0, kLambda, 1.0, Contact::kEdge);
   EXPECT_GT(flat, 0.100);
   EXPECT_NEAR(GapFringes(SphereGap(flat, plate, 0.015), kLambda), -2.0, 1e-9);
 }
@@ -336,6 +337,67 @@ TEST(RingFit, FittedRadiusReproducesPoints) {
     EXPECT_NEAR(FittedRadiusPx(fit, pts[i].order, std::atan2(dy, dx)),
                 std::hypot(dx, dy), 0.02);
   }
+}
+
+TEST(RingFit, FittedRadiusIsExactForAFastPartOnAPlate) {
+  // A fast part (R 12 mm) on a plate 0.2 % flatter: the higher-order sag
+  // terms shift the outer rings by several pixels, so the drawn model must
+  // carry them (exact sags, optics/sphere.h).
+  Truth t;
+  t.part_radius = 0.012;
+  t.plate_radius = -0.012024;
+  t.pitch = 4e-6;
+  t.last_index = 30;
+  t.cx = 900.3;
+  t.cy = 880.7;
+  const std::vector<RingFitPoint> pts = MakePoints(t);
+  const RingFitResult fit = FitRings(pts, OptionsFor(t), Guess(t));
+  ASSERT_NE(fit.status, Status::kError) << fit.messages.front();
+  RingFitResult paraxial = fit;
+  paraxial.model_part_radius_m = std::numeric_limits<double>::quiet_NaN();
+  double worst_paraxial = 0.0;
+  for (std::size_t i = 0; i < pts.size(); i += 7) {
+    const double dx = pts[i].x_px - fit.centre_px.x;
+    const double dy = pts[i].y_px - fit.centre_px.y;
+    const double angle = std::atan2(dy, dx);
+    EXPECT_NEAR(FittedRadiusPx(fit, pts[i].order, angle), std::hypot(dx, dy),
+                0.02);
+    worst_paraxial = std::max(
+        worst_paraxial, std::abs(FittedRadiusPx(paraxial, pts[i].order, angle) -
+                                 std::hypot(dx, dy)));
+  }
+  // Guards the test itself: without the exact terms the model is off.
+  EXPECT_GT(worst_paraxial, 0.5);
+}
+
+TEST(RingFit, PowerOverTheTestDiameter) {
+  // Power and sag over a stated test diameter (ISO 10110-5 tolerances apply
+  // over a test region) follow the exact sags there (optics/sphere.h).
+  Truth t;
+  t.plate_radius = -0.100;
+  t.part_radius = 0.09995;
+  t.pitch = 20e-6;
+  t.last_index = 40;
+  RingFitOptions o = OptionsFor(t);
+  o.test_diameter = Length::Millimetres(12.0);
+  const RingFitResult fit = FitRings(MakePoints(t), o, Guess(t));
+  ASSERT_NE(fit.status, Status::kError) << fit.messages.front();
+  EXPECT_TRUE(fit.over_test_diameter);
+  EXPECT_NEAR(fit.aperture_diameter_m, 0.012, 1e-12);
+  EXPECT_NEAR(fit.power_fringes,
+              std::abs(GapFringes(SphereGap(0.09995, -0.100, 0.006), kLambda)),
+              1e-6);
+  // A test diameter beyond the outermost fringe is extrapolation: warned.
+  o.test_diameter = Length::Millimetres(150.0);
+  const RingFitResult wide = FitRings(MakePoints(t), o, Guess(t));
+  ASSERT_NE(wide.status, Status::kError);
+  EXPECT_EQ(wide.status, Status::kWarning);
+  bool warned = false;
+  for (const std::string& m : wide.messages)
+    warned = warned || m.find("extrapolated") != std::string::npos;
+  EXPECT_TRUE(warned);
+  o.test_diameter = Length::Millimetres(-1.0);
+  EXPECT_NE(o.Check(), "");
 }
 
 TEST(RingFit, BadInput) {
