@@ -190,7 +190,11 @@ TEST(SurfaceMap, CarrierPhotoMeetsTheAccuracyTargets) {
                 2.0);
   }
   const double rms_error = MapRmsError(r.height_m, t.height_m);
-  std::cout << "carrier map: rms error " << rms_error * 1e9 << " nm\n";
+  std::cout << "carrier map: rms error " << rms_error * 1e9 << " nm, "
+            << r.metrics.pixels << " valid pixels of " << t.metrics.pixels
+            << ", B fit " << Fringes(r.metrics.irregularity_fit_m, kHeD)
+            << " truth " << Fringes(t.metrics.irregularity_fit_m, kHeD)
+            << "\n";
   EXPECT_LT(rms_error, 3e-9);
   EXPECT_NEAR(Fringes(r.metrics.power_m, kHeD),
               Fringes(t.metrics.power_m, kHeD), 0.05);
