@@ -36,6 +36,8 @@ constexpr double kProbeDiscFraction = 0.5;
 constexpr double kProbeMinRatio = 0.5;
 // Shortest usable carrier period (px).
 constexpr double kMinPeriodPx = 3.0;
+// Dust threshold in local fringe amplitudes from the local mean.
+constexpr float kDustAmplitudes = 1.35F;
 // Room between the aperture and its periodic copies in the transform, as
 // a fraction of the mask extent.
 constexpr double kPadFraction = 1.0 / 3.0;
@@ -48,6 +50,8 @@ struct Prepared {
   int wp = 0, hp = 0;         // padded transform size
   cv::Mat spectrum;           // CV_32FC2, hp x wp
   cv::Mat mean_small;         // local mean on a reduced grid (CV_32FC1)
+  cv::Mat amp_small;          // local fringe amplitude sqrt(2 var), same grid
+  cv::Mat work_mask;          // the mask minus dust (CV_8UC1, full size)
   double mean_scale = 1.0;    // full px per mean-grid px
   long mask_pixels = 0;
   std::vector<int> row_first, row_last;  // mask span per row (-1 if none)
@@ -81,13 +85,21 @@ void LocalMean(const cv::Mat& image, const cv::Mat& mask, double sigma_px,
   cv::Mat m;
   mask.convertTo(m, CV_32F, 1.0 / 255.0);
   cv::Mat im = image.mul(m);
-  cv::Mat ms, is;
+  cv::Mat im2 = im.mul(image);
+  cv::Mat ms, is, is2;
   cv::resize(m, ms, small, 0, 0, cv::INTER_AREA);
   cv::resize(im, is, small, 0, 0, cv::INTER_AREA);
+  cv::resize(im2, is2, small, 0, 0, cv::INTER_AREA);
   const double s = std::max(0.5, sigma_px / q);
   cv::GaussianBlur(ms, ms, cv::Size(), s, s, cv::BORDER_CONSTANT);
   cv::GaussianBlur(is, is, cv::Size(), s, s, cv::BORDER_CONSTANT);
-  cv::divide(is, cv::max(ms, 1e-6), p.mean_small);
+  cv::GaussianBlur(is2, is2, cv::Size(), s, s, cv::BORDER_CONSTANT);
+  const cv::Mat w = cv::max(ms, 1e-6);
+  cv::divide(is, w, p.mean_small);
+  cv::Mat second;
+  cv::divide(is2, w, second);
+  cv::Mat var = cv::max(second - p.mean_small.mul(p.mean_small), 0.0);
+  cv::sqrt(2.0 * var, p.amp_small);
   p.mean_scale = static_cast<double>(image.cols) / small.width;
 }
 
@@ -136,12 +148,36 @@ Prepared Prepare(const cv::Mat& image_in, const cv::Mat& mask,
       std::max(64, static_cast<int>(std::ceil(p.extent_px * kPadFraction)));
   p.wp = cv::getOptimalDFTSize(std::max(p.width, x_hi - x_lo + 1 + margin));
   p.hp = cv::getOptimalDFTSize(std::max(p.height, y_hi - y_lo + 1 + margin));
+  // Dust and defects: pixels outside the local fringe envelope
+  // (|I - mean| > 1.35 amplitudes; a cosine stays within 1), cleaned of
+  // isolated noise pixels and grown by a few pixels. They leave the working
+  // mask, so the extrapolation fills them like the outside [practice].
+  cv::Mat amp_full;
+  cv::resize(p.amp_small, amp_full, image.size(), 0, 0, cv::INTER_LINEAR);
+  cv::Mat dust = cv::Mat::zeros(image.size(), CV_8UC1);
+  cv::parallel_for_(cv::Range(0, p.height), [&](const cv::Range& range) {
+    for (int y = range.start; y < range.end; ++y) {
+      const float* src = image.ptr<float>(y);
+      const float* mean = mean_full.ptr<float>(y);
+      const float* amp = amp_full.ptr<float>(y);
+      const uint8_t* m = mask.ptr<uint8_t>(y);
+      uint8_t* d = dust.ptr<uint8_t>(y);
+      for (int x = 0; x < p.width; ++x) {
+        if (m[x] != 0 && std::fabs(src[x] - mean[x]) > kDustAmplitudes * amp[x])
+          d[x] = 255;
+      }
+    }
+  });
+  cv::morphologyEx(dust, dust, cv::MORPH_OPEN,
+                   cv::getStructuringElement(cv::MORPH_ELLIPSE, {5, 5}));
+  cv::dilate(dust, dust, cv::getStructuringElement(cv::MORPH_ELLIPSE, {7, 7}));
+  p.work_mask = mask & ~dust;
   cv::Mat padded = cv::Mat::zeros(p.hp, p.wp, CV_32FC1);
   cv::parallel_for_(cv::Range(0, p.height), [&](const cv::Range& range) {
     for (int y = range.start; y < range.end; ++y) {
       const float* src = image.ptr<float>(y);
       const float* mean = mean_full.ptr<float>(y);
-      const uint8_t* m = mask.ptr<uint8_t>(y);
+      const uint8_t* m = p.work_mask.ptr<uint8_t>(y);
       float* dst = padded.ptr<float>(y);
       for (int x = 0; x < p.width; ++x)
         dst[x] = m[x] != 0 ? src[x] - mean[x] : 0.0F;
@@ -426,16 +462,18 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
   }
   result.filter_radius_cycles_per_px = r;
 
-  // Reduced grid: at least twice the filter band in each direction
-  // (products with the mask alias outside the band) and about
-  // working_size_px on the longer side.
+  // Reduced grid, centred on zero frequency: it holds the DC lobe and both
+  // sidebands with room for products with the mask (twice the highest band
+  // frequency on each axis), and about working_size_px on the longer side.
   int wr = wp;
   int hr = hp;
   if (options.working_size_px > 0) {
     const double target =
         static_cast<double>(options.working_size_px) / std::max(wp, hp);
-    const int need_w = static_cast<int>(std::ceil(4.0 * r * wp)) + 8;
-    const int need_h = static_cast<int>(std::ceil(4.0 * r * hp)) + 8;
+    const int need_w =
+        static_cast<int>(std::ceil(4.0 * (std::fabs(peak.f.x) + r) * wp)) + 8;
+    const int need_h =
+        static_cast<int>(std::ceil(4.0 * (std::fabs(peak.f.y) + r) * hp)) + 8;
     wr = std::min(wp, cv::getOptimalDFTSize(
                           std::max(need_w, static_cast<int>(target * wp))));
     hr = std::min(hp, cv::getOptimalDFTSize(
@@ -443,25 +481,30 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
   }
   const double sx = static_cast<double>(wp) / wr;
   const double sy = static_cast<double>(hp) / hr;
-
-  // Cropped, windowed sideband spectrum centred on the integer peak bin;
-  // the window is centred on the sub-bin peak: a flat-top taper for the
-  // plain method, the ideal band (a projection) for the extrapolation.
   const bool extend = options.extension_iterations > 0;
-  cv::Mat window(hr, wr, CV_32FC1);
-  cv::Mat crop(hr, wr, CV_32FC2);
+
+  // The low-frequency part of the spectrum on the reduced grid, limited to
+  // the signal bands (B): the DC lobe, the sideband around +f and its
+  // mirror around -f. The model of the fringes is real, so the
+  // extrapolation below also models the mirror sideband and the residual
+  // background, whose leakage through the aperture edge would otherwise be
+  // taken for signal.
+  const double r_dc_band = std::min(2.0 * r_dc, fabs - r);
+  cv::Mat band(hr, wr, CV_32FC1);
+  cv::Mat data(hr, wr, CV_32FC2);
   for (int jy = 0; jy < hr; ++jy) {
-    const int sy_bin = Signed(jy, hr);
+    const int ky = Signed(jy, hr);
     for (int jx = 0; jx < wr; ++jx) {
-      const int sx_bin = Signed(jx, wr);
-      const double fx = (sx_bin - peak.dx) / wp;
-      const double fy = (sy_bin - peak.dy) / hp;
-      const double dist = std::hypot(fx, fy);
-      const float w = extend ? (dist < r ? 1.0F : 0.0F) : Tukey(dist, r);
-      window.at<float>(jy, jx) = w;
-      const auto& v = p.spectrum.at<cv::Vec2f>(Wrapped(peak.ky + sy_bin, hp),
-                                               Wrapped(peak.kx + sx_bin, wp));
-      crop.at<cv::Vec2f>(jy, jx) = v * w;
+      const int kx = Signed(jx, wr);
+      const double fx = static_cast<double>(kx) / wp;
+      const double fy = static_cast<double>(ky) / hp;
+      const bool in = std::hypot(fx, fy) < r_dc_band ||
+                      std::hypot(fx - peak.f.x, fy - peak.f.y) < r ||
+                      std::hypot(fx + peak.f.x, fy + peak.f.y) < r;
+      band.at<float>(jy, jx) = in ? 1.0F : 0.0F;
+      data.at<cv::Vec2f>(jy, jx) =
+          in ? p.spectrum.at<cv::Vec2f>(Wrapped(ky, hp), Wrapped(kx, wp))
+             : cv::Vec2f(0.0F, 0.0F);
     }
   }
 
@@ -482,7 +525,7 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
       col_of[static_cast<std::size_t>(x)] =
           Wrapped(static_cast<int>(std::lround(x / sx)), wr);
     for (int y = 0; y < p.height; ++y) {
-      const uint8_t* m = mask.ptr<uint8_t>(y);
+      const uint8_t* m = p.work_mask.ptr<uint8_t>(y);
       float* dst =
           inside.ptr<float>(Wrapped(static_cast<int>(std::lround(y / sy)), hr));
       const int a = p.row_first[static_cast<std::size_t>(y)];
@@ -502,52 +545,67 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
   cv::Mat outside = 1.0 - inside;  // D in the text below
 
   // Band-limited extrapolation (R. W. Gerchberg, Optica Acta 21(9) 709,
-  // 1974; Roddier & Roddier 1987): the field u in the band (P, the ideal
-  // disc projection) whose masked part best matches the observed sideband
-  // in least squares: P m u = P m s, i.e. (I - P D P) u = c with c = P(m s)
-  // and D = 1 - m, the fixed point of the Gerchberg iteration
-  // u <- c + P D u. Solved by conjugate gradients in the spectral domain
-  // (the operator is self-adjoint and positive semi-definite), a fixed
-  // number of steps acting as the regularisation [practice: early-stopped
-  // CG for band-limited extrapolation].
-  cv::Mat field;  // spatial, CV_32FC2
-  {
-    cv::Mat c_spec = crop;  // already windowed: W (m s)
-    cv::Mat u = c_spec.clone();
-    auto apply = [&](const cv::Mat& x_spec) {  // (I - W D W) x
-      cv::Mat t = x_spec.clone();
-      ApplyWindow(t, window);
+  // 1974; Roddier & Roddier 1987): the real fringe signal g in the bands B
+  // whose masked part best matches the observed one in least squares:
+  // B m g = B m s, i.e. (I - B D B) g = c with c = B(m s) and D = 1 - m,
+  // the fixed point of the Gerchberg iteration g <- c + B D g. Solved by
+  // conjugate gradients in the spectral domain (the operator is
+  // self-adjoint and positive semi-definite), a fixed number of steps
+  // acting as the regularisation [practice: early-stopped CG for
+  // band-limited extrapolation].
+  cv::Mat low = data.clone();
+  if (extend) {
+    auto apply = [&](const cv::Mat& x_spec) {  // (I - B D B) x, x in B
       cv::Mat sp;
-      cv::dft(t, sp, cv::DFT_INVERSE | cv::DFT_SCALE);
+      cv::dft(x_spec, sp, cv::DFT_INVERSE | cv::DFT_SCALE);
       for (int y = 0; y < hr; ++y) {
         auto* v = sp.ptr<cv::Vec2f>(y);
         const float* d = outside.ptr<float>(y);
         for (int x = 0; x < wr; ++x) v[x] *= d[x];
       }
+      cv::Mat t;
       cv::dft(sp, t);
-      ApplyWindow(t, window);
+      ApplyWindow(t, band);
       return cv::Mat(x_spec - t);
     };
-    if (options.extension_iterations > 0) {
-      cv::Mat res = c_spec - apply(u);
-      cv::Mat dir = res.clone();
-      double rr = Dot(res, res);
-      const double rr0 = rr;
-      for (int it = 0; it < options.extension_iterations && rr > 1e-12 * rr0;
-           ++it) {
-        const cv::Mat ad = apply(dir);
-        const double den = Dot(dir, ad);
-        if (!(den > 0.0)) break;
-        const double alpha = rr / den;
-        u += alpha * dir;
-        res -= alpha * ad;
-        const double rr_new = Dot(res, res);
-        dir = res + (rr_new / rr) * dir;
-        rr = rr_new;
-      }
+    cv::Mat res = data - apply(low);
+    cv::Mat dir = res.clone();
+    double rr = Dot(res, res);
+    const double rr0 = rr;
+    for (int it = 0; it < options.extension_iterations && rr > 1e-12 * rr0;
+         ++it) {
+      const cv::Mat ad = apply(dir);
+      const double den = Dot(dir, ad);
+      if (!(den > 0.0)) break;
+      const double alpha = rr / den;
+      low += alpha * dir;
+      res -= alpha * ad;
+      const double rr_new = Dot(res, res);
+      dir = res + (rr_new / rr) * dir;
+      rr = rr_new;
     }
-    cv::dft(u, field, cv::DFT_INVERSE | cv::DFT_SCALE);
   }
+
+  // The sideband, shifted to the origin by the integer peak bin; the window
+  // is centred on the sub-bin peak: a flat-top taper for the plain method,
+  // the ideal disc (already applied) after the extrapolation.
+  cv::Mat crop(hr, wr, CV_32FC2);
+  for (int jy = 0; jy < hr; ++jy) {
+    const int sy_bin = Signed(jy, hr);
+    for (int jx = 0; jx < wr; ++jx) {
+      const int sx_bin = Signed(jx, wr);
+      const double fx = (sx_bin - peak.dx) / wp;
+      const double fy = (sy_bin - peak.dy) / hp;
+      const double dist = std::hypot(fx, fy);
+      const float w = extend ? (dist < r ? 1.0F : 0.0F) : Tukey(dist, r);
+      const auto& v = low.at<cv::Vec2f>(Wrapped(peak.ky + sy_bin, hr),
+                                        Wrapped(peak.kx + sx_bin, wr));
+      crop.at<cv::Vec2f>(jy, jx) = v * w;
+    }
+  }
+  cv::Mat field;  // spatial, CV_32FC2
+  cv::dft(crop, field, cv::DFT_INVERSE | cv::DFT_SCALE);
+
   // Amplitude of the full-size transform: ours is scaled by 1/(wr hr), the
   // full one by 1/(wp hp).
   const float amp_scale = static_cast<float>(static_cast<double>(wr) * hr /
@@ -654,6 +712,7 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
     for (int y = range.start; y < range.end; ++y) {
       const auto ky = static_cast<std::size_t>(y);
       const uint8_t* m = mask.ptr<uint8_t>(y);
+      const uint8_t* wm = p.work_mask.ptr<uint8_t>(y);
       float* ph = result.phase.ptr<float>(y);
       float* uw = result.unwrapped.ptr<float>(y);
       float* mo = result.modulation.ptr<float>(y);
@@ -705,7 +764,7 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
                   fx * modulation_r.at<float>(y1, x1));
         mo[x] = mod;
         bad[x] = un.unreliable.at<uint8_t>(yn, tx.nearest[kx]);
-        const bool usable = !std::isnan(acc) && mod >= threshold;
+        const bool usable = !std::isnan(acc) && mod >= threshold && wm[x] != 0;
         va[x] = usable ? 255 : 0;
         uw[x] = usable ? acc : nan;
         ph[x] = std::isnan(acc)
