@@ -51,21 +51,36 @@ ApertureResult DetectAperture(const cv::Mat& image,
     result.message = "image too small for aperture detection";
     return result;
   }
-  // Working resolution.
+  return DetectAperture(
+      image, ReduceToWorkingSize(image, options.working_size_px), options);
+}
+
+cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px) {
+  assert(image.type() == CV_32FC1 && working_size_px >= 16);
   const double factor =
       std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
-                        options.working_size_px);
+                        working_size_px);
+  if (!(factor > 1.0)) return image;
   cv::Mat small;
-  if (factor > 1.0) {
-    cv::resize(
-        image, small,
-        cv::Size(
-            std::max(16, static_cast<int>(std::lround(image.cols / factor))),
-            std::max(16, static_cast<int>(std::lround(image.rows / factor)))),
-        0, 0, cv::INTER_AREA);
-  } else {
-    small = image.clone();
+  cv::resize(
+      image, small,
+      cv::Size(
+          std::max(16, static_cast<int>(std::lround(image.cols / factor))),
+          std::max(16, static_cast<int>(std::lround(image.rows / factor)))),
+      0, 0, cv::INTER_AREA);
+  return small;
+}
+
+ApertureResult DetectAperture(const cv::Mat& image, const cv::Mat& reduced,
+                              const ApertureOptions& options) {
+  assert(image.type() == CV_32FC1 && reduced.type() == CV_32FC1);
+  ApertureResult result;
+  if (image.cols < 16 || image.rows < 16) {
+    result.message = "image too small for aperture detection";
+    return result;
   }
+  // Working resolution (a copy: modified below).
+  cv::Mat small = reduced.clone();
   const double sx = static_cast<double>(image.cols) / small.cols;
   const double sy = static_cast<double>(image.rows) / small.rows;
 

@@ -40,6 +40,16 @@ struct ApertureResult {
 ApertureResult DetectAperture(const cv::Mat& image,
                               const ApertureOptions& options = {});
 
+// The same with `reduced` = ReduceToWorkingSize(image,
+// options.working_size_px) already at hand.
+ApertureResult DetectAperture(const cv::Mat& image, const cv::Mat& reduced,
+                              const ApertureOptions& options = {});
+
+// `image` (CV_32FC1) reduced by area averaging (cv::INTER_AREA) so that its
+// larger side is at most `working_size_px` (at least 16 px a side); the
+// image itself (not a copy) when it is already that small.
+cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px);
+
 // Bilinear interpolation of a CV_32FC1 image at (x, y) (pixel centres at
 // integers); NaN outside [0, cols-1] x [0, rows-1].
 double SampleBilinear(const cv::Mat& image, double x, double y);

@@ -59,29 +59,6 @@ void Taps(int full, int reduced, int scale, std::vector<int>& index,
   }
 }
 
-// One full-resolution row y of a reduced map, interpolated bilinearly:
-// first between the two reduced rows (weight fy), then along x, into `out`
-// (image.cols values; only [x0, x1] are needed by the callers).
-void InterpolateRow(const cv::Mat& map, int ky, float fy,
-                    const std::vector<int>& kx, const std::vector<float>& fx,
-                    int x0, int x1, std::vector<float>& between,
-                    std::vector<float>& out) {
-  const int ky1 = std::min(ky + 1, map.rows - 1);
-  const float* r0 = map.ptr<float>(ky);
-  const float* r1 = map.ptr<float>(ky1);
-  between.resize(static_cast<std::size_t>(map.cols) + 1);
-  for (int k = 0; k < map.cols; ++k) {
-    between[static_cast<std::size_t>(k)] = r0[k] + fy * (r1[k] - r0[k]);
-  }
-  between[static_cast<std::size_t>(map.cols)] =
-      between[static_cast<std::size_t>(map.cols) - 1];
-  for (int x = x0; x <= x1; ++x) {
-    const auto xi = static_cast<std::size_t>(x);
-    const auto k = static_cast<std::size_t>(kx[xi]);
-    out[xi] = between[k] + fx[xi] * (between[k + 1] - between[k]);
-  }
-}
-
 }  // namespace
 
 FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
@@ -98,15 +75,18 @@ FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
   const int rows = (image.rows + scale - 1) / scale;
   const double block = static_cast<double>(scale) * scale;
 
-  // Pass 1: block sums of I and of the inside count.
-  cv::Mat sum_i = cv::Mat::zeros(rows, cols, CV_32FC1);
-  cv::Mat weight = cv::Mat::zeros(rows, cols, CV_32FC1);
+  // Pass 1: block sums of I, I^2 and of the inside count. The fringe power
+  // about the smooth mean m follows without a second pass: per block,
+  // sum (I - m)^2 = (sum I^2 - (sum I)^2 / n) + n (sum I / n - m)^2 with m
+  // taken constant over the block (it varies on the scale smoothing_px).
+  cv::Mat sum_i = cv::Mat::zeros(rows, cols, CV_64FC1);
+  cv::Mat sum_ii = cv::Mat::zeros(rows, cols, CV_64FC1);
+  cv::Mat weight64 = cv::Mat::zeros(rows, cols, CV_64FC1);
   cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
-    std::vector<double> acc(static_cast<std::size_t>(cols));
-    std::vector<double> cnt(static_cast<std::size_t>(cols));
     for (int by = range.start; by < range.end; ++by) {
-      std::fill(acc.begin(), acc.end(), 0.0);
-      std::fill(cnt.begin(), cnt.end(), 0.0);
+      auto* acc = sum_i.ptr<double>(by);
+      auto* acc2 = sum_ii.ptr<double>(by);
+      auto* cnt = weight64.ptr<double>(by);
       for (int y = by * scale; y < std::min(image.rows, (by + 1) * scale);
            ++y) {
         int x0 = 0;
@@ -114,112 +94,113 @@ FlattenedImage FlattenIllumination(const cv::Mat& image, const Circle& region,
         RowSpan(region, y, image.cols, x0, x1);
         if (x1 < x0) continue;
         const float* row = image.ptr<float>(y);
-        // Block by block (no division per pixel).
+        // Block by block over one block row segment (no division per
+        // pixel).
         for (int bx = x0 / scale; bx <= x1 / scale; ++bx) {
           const int xa = std::max(x0, bx * scale);
           const int xb = std::min(x1, (bx + 1) * scale - 1);
           double part = 0.0;
-          for (int x = xa; x <= xb; ++x) part += static_cast<double>(row[x]);
-          acc[static_cast<std::size_t>(bx)] += part;
-          cnt[static_cast<std::size_t>(bx)] += static_cast<double>(xb - xa + 1);
+          double part2 = 0.0;
+          for (int x = xa; x <= xb; ++x) {
+            const auto v = static_cast<double>(row[x]);
+            part += v;
+            part2 += v * v;
+          }
+          acc[bx] += part;
+          acc2[bx] += part2;
+          cnt[bx] += static_cast<double>(xb - xa + 1);
         }
-      }
-      float* s = sum_i.ptr<float>(by);
-      float* w = weight.ptr<float>(by);
-      for (int bx = 0; bx < cols; ++bx) {
-        s[bx] = static_cast<float>(acc[static_cast<std::size_t>(bx)] / block);
-        w[bx] = static_cast<float>(cnt[static_cast<std::size_t>(bx)] / block);
       }
     }
   });
   const double sigma = std::max(1.0, options.smoothing_px / scale);
   cv::Mat smoothed_weight;
-  cv::GaussianBlur(weight, smoothed_weight, cv::Size(), sigma, sigma,
-                   cv::BORDER_CONSTANT);
+  cv::GaussianBlur(weight64 * (1.0 / block), smoothed_weight, cv::Size(), sigma,
+                   sigma, cv::BORDER_CONSTANT);
   FlattenedImage out;
   out.scale = scale;
-  out.weight = weight;
-  out.mean = SmoothMasked(sum_i, sigma, smoothed_weight);
-
-  std::vector<int> kx;
-  std::vector<float> fx;
-  std::vector<int> ky;
-  std::vector<float> fy;
-  Taps(image.cols, cols, scale, kx, fx);
-  Taps(image.rows, rows, scale, ky, fy);
-
-  // Pass 2: block sums of (I - m)^2 inside.
-  cv::Mat power = cv::Mat::zeros(rows, cols, CV_32FC1);
-  cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
-    std::vector<double> acc(static_cast<std::size_t>(cols));
-    std::vector<float> between;
-    std::vector<float> mean_row(static_cast<std::size_t>(image.cols));
-    for (int by = range.start; by < range.end; ++by) {
-      std::fill(acc.begin(), acc.end(), 0.0);
-      for (int y = by * scale; y < std::min(image.rows, (by + 1) * scale);
-           ++y) {
-        int x0 = 0;
-        int x1 = -1;
-        RowSpan(region, y, image.cols, x0, x1);
-        if (x1 < x0) continue;
-        const float* row = image.ptr<float>(y);
-        const auto yi = static_cast<std::size_t>(y);
-        InterpolateRow(out.mean, ky[yi], fy[yi], kx, fx, x0, x1, between,
-                       mean_row);
-        // Block by block: a float partial sum per block row segment.
-        for (int bx = x0 / scale; bx <= x1 / scale; ++bx) {
-          const int xa = std::max(x0, bx * scale);
-          const int xb = std::min(x1, (bx + 1) * scale - 1);
-          double part = 0.0;
-          for (int x = xa; x <= xb; ++x) {
-            const double d = static_cast<double>(
-                row[x] - mean_row[static_cast<std::size_t>(x)]);
-            part += d * d;
-          }
-          acc[static_cast<std::size_t>(bx)] += part;
-        }
-      }
-      float* p = power.ptr<float>(by);
-      for (int bx = 0; bx < cols; ++bx) {
-        p[bx] = static_cast<float>(acc[static_cast<std::size_t>(bx)] / block);
-      }
+  cv::Mat(weight64 * (1.0 / block)).convertTo(out.weight, CV_32F);
+  const cv::Mat mean =
+      SmoothMasked(sum_i * (1.0 / block), sigma, smoothed_weight);
+  mean.convertTo(out.mean, CV_32F);
+  // Per block: the sum of (I - m)^2 over its inside pixels, per block area.
+  cv::Mat power = cv::Mat::zeros(rows, cols, CV_64FC1);
+  for (int by = 0; by < rows; ++by) {
+    const auto* s1 = sum_i.ptr<double>(by);
+    const auto* s2 = sum_ii.ptr<double>(by);
+    const auto* n = weight64.ptr<double>(by);
+    const auto* m = mean.ptr<double>(by);
+    auto* p = power.ptr<double>(by);
+    for (int bx = 0; bx < cols; ++bx) {
+      if (!(n[bx] > 0.0)) continue;
+      const double block_mean = s1[bx] / n[bx];
+      const double within = std::max(0.0, s2[bx] - s1[bx] * block_mean);
+      const double offset = block_mean - m[bx];
+      p[bx] = (within + n[bx] * offset * offset) / block;
     }
-  });
+  }
   const cv::Mat variance = SmoothMasked(power, sigma, smoothed_weight);
-  cv::sqrt(cv::max(2.0 * variance, 0.0), out.amplitude);
+  cv::Mat amplitude;
+  cv::sqrt(cv::max(2.0 * variance, 0.0), amplitude);
+  amplitude.convertTo(out.amplitude, CV_32F);
+
+  // 1 / a, with a floor against division by zero where there are no
+  // fringes (interpolated like m; a varies slowly, so this equals the
+  // reciprocal of the interpolated a to second order).
   double max_amplitude = 0.0;
   cv::minMaxLoc(out.amplitude, nullptr, &max_amplitude);
-  const float floor = static_cast<float>(std::max(1e-12, 1e-6 * max_amplitude));
+  cv::divide(1.0, cv::max(out.amplitude, std::max(1e-12, 1e-6 * max_amplitude)),
+             out.inverse_amplitude, CV_32F);
+  out.full_size = image.size();
+  Taps(image.cols, cols, scale, out.tap_x, out.frac_x);
+  Taps(image.rows, rows, scale, out.tap_y, out.frac_y);
+  return out;
+}
 
-  // Pass 3: the normalised image.
-  // Allocated without clearing: every row is written below (zero outside
-  // the region), which saves a full pass over the image.
-  out.normalised.create(image.size(), CV_32FC1);
+void FlattenedImage::NormaliseRow(const float* pixels, int y, int x0, int x1,
+                                  float* out) const {
+  assert(y >= 0 && y < full_size.height && x0 >= 0 && x1 < full_size.width);
+  if (x1 < x0) return;
+  const auto yi = static_cast<std::size_t>(y);
+  const int ky = tap_y[yi];
+  const float fy = frac_y[yi];
+  const int ky1 = std::min(ky + 1, mean.rows - 1);
+  // The two reduced maps between their rows ky and ky + 1, then linearly
+  // along x inside the loop.
+  const int n = mean.cols;
+  std::vector<float> m(static_cast<std::size_t>(n) + 1);
+  std::vector<float> g(static_cast<std::size_t>(n) + 1);
+  const float* m0 = mean.ptr<float>(ky);
+  const float* m1 = mean.ptr<float>(ky1);
+  const float* g0 = inverse_amplitude.ptr<float>(ky);
+  const float* g1 = inverse_amplitude.ptr<float>(ky1);
+  for (int k = 0; k < n; ++k) {
+    const auto ki = static_cast<std::size_t>(k);
+    m[ki] = m0[k] + fy * (m1[k] - m0[k]);
+    g[ki] = g0[k] + fy * (g1[k] - g0[k]);
+  }
+  m[static_cast<std::size_t>(n)] = m[static_cast<std::size_t>(n) - 1];
+  g[static_cast<std::size_t>(n)] = g[static_cast<std::size_t>(n) - 1];
+  for (int x = x0; x <= x1; ++x) {
+    const auto xi = static_cast<std::size_t>(x);
+    const auto k = static_cast<std::size_t>(tap_x[xi]);
+    const float f = frac_x[xi];
+    const float mean_x = m[k] + f * (m[k + 1] - m[k]);
+    const float inverse_x = g[k] + f * (g[k + 1] - g[k]);
+    out[x] = (pixels[x] - mean_x) * inverse_x;
+  }
+}
+
+cv::Mat FlattenedImage::Normalised(const cv::Mat& image,
+                                   const Circle& region) const {
+  assert(image.type() == CV_32FC1 && image.size() == full_size);
+  cv::Mat out = cv::Mat::zeros(image.size(), CV_32FC1);
   cv::parallel_for_(cv::Range(0, image.rows), [&](const cv::Range& range) {
-    std::vector<float> between;
-    std::vector<float> mean_row(static_cast<std::size_t>(image.cols));
-    std::vector<float> amplitude_row(static_cast<std::size_t>(image.cols));
     for (int y = range.start; y < range.end; ++y) {
       int x0 = 0;
       int x1 = -1;
       RowSpan(region, y, image.cols, x0, x1);
-      float* dst = out.normalised.ptr<float>(y);
-      if (x1 < x0) {
-        std::fill(dst, dst + image.cols, 0.0F);
-        continue;
-      }
-      std::fill(dst, dst + x0, 0.0F);
-      std::fill(dst + x1 + 1, dst + image.cols, 0.0F);
-      const float* row = image.ptr<float>(y);
-      const auto yi = static_cast<std::size_t>(y);
-      InterpolateRow(out.mean, ky[yi], fy[yi], kx, fx, x0, x1, between,
-                     mean_row);
-      InterpolateRow(out.amplitude, ky[yi], fy[yi], kx, fx, x0, x1, between,
-                     amplitude_row);
-      for (int x = x0; x <= x1; ++x) {
-        const auto xi = static_cast<std::size_t>(x);
-        dst[x] = (row[x] - mean_row[xi]) / std::max(amplitude_row[xi], floor);
-      }
+      NormaliseRow(image.ptr<float>(y), y, x0, x1, out.ptr<float>(y));
     }
   });
   return out;

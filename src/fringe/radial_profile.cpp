@@ -7,6 +7,7 @@
 #include <mutex>
 #include <numbers>
 #include <opencv2/core/utility.hpp>
+#include <vector>
 
 namespace figura {
 
@@ -36,7 +37,20 @@ SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
                                         cv::Point2d centre,
                                         double bin_width_px2, int sectors) {
   assert(image.type() == CV_32FC1);
-  assert(bin_width_px2 > 0.0 && sectors >= 1);
+  const RowValues values = [&image](int y, int x0, int x1, float* out) {
+    const float* row = image.ptr<float>(y);
+    std::copy(row + x0, row + x1 + 1, out + x0);
+  };
+  return AccumulateSectorProfiles(values, image.size(), region, centre,
+                                  bin_width_px2, sectors);
+}
+
+SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
+                                        const Circle& region,
+                                        cv::Point2d centre,
+                                        double bin_width_px2, int sectors,
+                                        int row_step) {
+  assert(bin_width_px2 > 0.0 && sectors >= 1 && row_step >= 1);
   SectorProfiles out;
   out.centre = centre;
   out.bin_width_px2 = bin_width_px2;
@@ -53,26 +67,30 @@ SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
   const int y_begin =
       std::max(0, static_cast<int>(std::ceil(region.centre.y - region.radius)));
   const int y_end = std::min(
-      image.rows,
+      size.height,
       static_cast<int>(std::floor(region.centre.y + region.radius)) + 1);
   if (y_end <= y_begin) return out;
   const double sector_width = 2.0 * std::numbers::pi / sectors;
   const double inverse_bin = 1.0 / bin_width_px2;
   std::mutex merge;
   const int stripes = std::clamp(cv::getNumThreads(), 1, 8);
+  // Parallel over the used rows y_begin + i * row_step.
+  const int used_rows = (y_end - y_begin + row_step - 1) / row_step;
   cv::parallel_for_(
-      cv::Range(y_begin, y_end),
+      cv::Range(0, used_rows),
       [&](const cv::Range& rows) {
+        std::vector<float> row(static_cast<std::size_t>(size.width));
         // Interleaved per bin (count, sum, sum_r2, sum_angle): one cache
         // line per pixel update instead of four (consecutive pixels of a
         // row mostly fall into different bins).
         std::vector<std::array<double, 4>> acc(total, {0.0, 0.0, 0.0, 0.0});
-        for (int y = rows.start; y < rows.end; ++y) {
+        for (int used = rows.start; used < rows.end; ++used) {
+          const int y = y_begin + used * row_step;
           int x0 = 0;
           int x1 = -1;
-          RowSpan(region, y, image.cols, x0, x1);
+          RowSpan(region, y, size.width, x0, x1);
           if (x1 < x0) continue;
-          const float* row = image.ptr<float>(y);
+          values(y, x0, x1, row.data());
           const double dy = y - centre.y;
           for (int x = x0; x <= x1; ++x) {
             const double dx = x - centre.x;
@@ -94,7 +112,7 @@ SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
                 static_cast<std::size_t>(sector) * out.bins + bin;
             std::array<double, 4>& a = acc[i];
             a[0] += 1.0;
-            a[1] += static_cast<double>(row[x]);
+            a[1] += static_cast<double>(row[static_cast<std::size_t>(x)]);
             a[2] += r2;
             a[3] += offset;
           }

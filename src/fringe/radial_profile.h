@@ -2,6 +2,7 @@
 // (px^2), where Newton's fringes are periodic.
 #pragma once
 
+#include <functional>
 #include <opencv2/core.hpp>
 #include <span>
 #include <vector>
@@ -36,9 +37,21 @@ struct R2Profile {
   std::vector<double> r2, value, weight, angle;
 };
 
-// Accumulates the pixels of `image` (CV_32FC1) whose centres lie inside
-// `region` into `sectors` azimuth sectors and bins of r^2 about `centre` of
-// width `bin_width_px2`. Runs in parallel over image rows (cv::parallel_for_).
+// Supplies the values of image row y, columns [x0, x1], into out[x0..x1]
+// (out has room for the whole row). Called from several threads at once.
+using RowValues = std::function<void(int y, int x0, int x1, float* out)>;
+
+// Accumulates the pixels whose centres lie inside `region` (image size
+// `size`, values from `values`) into `sectors` azimuth sectors and bins of
+// r^2 about `centre` of width `bin_width_px2`, using every `row_step`-th
+// row (1: all). Runs in parallel over image rows (cv::parallel_for_).
+SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
+                                        const Circle& region,
+                                        cv::Point2d centre,
+                                        double bin_width_px2, int sectors,
+                                        int row_step = 1);
+
+// The same for the pixels of `image` (CV_32FC1).
 SectorProfiles AccumulateSectorProfiles(const cv::Mat& image,
                                         const Circle& region,
                                         cv::Point2d centre,

@@ -2,10 +2,12 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
+#include <array>
 #include <cassert>
 #include <cmath>
 #include <limits>
 #include <map>
+#include <mutex>
 #include <numbers>
 #include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
@@ -15,8 +17,19 @@ namespace figura {
 
 namespace {
 
+// Median of `values`; of an evenly strided subset of about kMedianSamples
+// of them when there are more (a robust scale needs no more).
 double Median(std::vector<double> values) {
+  constexpr std::size_t kMedianSamples = 32768;
   if (values.empty()) return 0.0;
+  if (values.size() > 2 * kMedianSamples) {
+    const std::size_t stride = values.size() / kMedianSamples;
+    std::size_t kept = 0;
+    for (std::size_t i = 0; i < values.size(); i += stride) {
+      values[kept++] = values[i];
+    }
+    values.resize(kept);
+  }
   const auto middle =
       values.begin() + static_cast<std::ptrdiff_t>(values.size() / 2);
   std::nth_element(values.begin(), middle, values.end());
@@ -131,78 +144,170 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
 
 PixelSamples SamplePixels(const cv::Mat& image, const Circle& region,
                           int stride) {
-  assert(image.type() == CV_32FC1 && stride >= 1);
+  assert(image.type() == CV_32FC1);
+  const RowValues values = [&image](int y, int x0, int x1, float* out) {
+    const float* row = image.ptr<float>(y);
+    std::copy(row + x0, row + x1 + 1, out + x0);
+  };
+  return SamplePixels(values, image.size(), region, stride);
+}
+
+PixelSamples SamplePixels(const RowValues& values, cv::Size size,
+                          const Circle& region, int stride) {
+  assert(stride >= 1);
   PixelSamples out;
   const int y0 =
       std::max(0, static_cast<int>(std::ceil(region.centre.y - region.radius)));
   const int y1 =
-      std::min(image.rows - 1,
+      std::min(size.height - 1,
                static_cast<int>(std::floor(region.centre.y + region.radius)));
+  // Sized for the disc (pi r^2 / stride^2) so that the arrays grow rarely.
+  const auto expected = static_cast<std::size_t>(
+      3.2 * region.radius * region.radius / (stride * stride) + 64.0);
+  out.x.reserve(expected);
+  out.y.reserve(expected);
+  out.value.reserve(expected);
+  std::vector<float> row(static_cast<std::size_t>(size.width));
   for (int y = y0; y <= y1; y += stride) {
     int x0 = 0;
     int x1 = -1;
-    RowSpan(region, y, image.cols, x0, x1);
+    RowSpan(region, y, size.width, x0, x1);
     if (x1 < x0) continue;
-    const float* row = image.ptr<float>(y);
+    values(y, x0, x1, row.data());
     for (int x = x0; x <= x1; x += stride) {
       out.x.push_back(static_cast<float>(x));
       out.y.push_back(static_cast<float>(y));
-      out.value.push_back(row[x]);
+      out.value.push_back(row[static_cast<std::size_t>(x)]);
     }
   }
   return out;
 }
 
-double ProfileSharpness(const PixelSamples& samples, cv::Point2d centre,
-                        double period_r2_px2) {
-  assert(period_r2_px2 > 0.0);
-  constexpr int kBinsPerPeriod = 16;
-  const double width = period_r2_px2 / kBinsPerPeriod;
-  double max_r2 = 0.0;
-  const std::size_t n = samples.x.size();
-  for (std::size_t i = 0; i < n; ++i) {
-    const double dx = static_cast<double>(samples.x[i]) - centre.x;
-    const double dy = static_cast<double>(samples.y[i]) - centre.y;
-    max_r2 = std::max(max_r2, dx * dx + dy * dy);
-  }
-  const int bins = static_cast<int>(max_r2 / width) + 2;
-  std::vector<double> sum(static_cast<std::size_t>(bins), 0.0);
-  std::vector<double> count(static_cast<std::size_t>(bins), 0.0);
-  const double inverse = 1.0 / width;
-  for (std::size_t i = 0; i < n; ++i) {
-    const double dx = static_cast<double>(samples.x[i]) - centre.x;
-    const double dy = static_cast<double>(samples.y[i]) - centre.y;
-    const double u = (dx * dx + dy * dy) * inverse;
-    const auto b = static_cast<std::size_t>(u);
-    const double f = u - static_cast<double>(b);
-    const auto v = static_cast<double>(samples.value[i]);
-    sum[b] += (1.0 - f) * v;
-    count[b] += 1.0 - f;
-    sum[b + 1] += f * v;
-    count[b + 1] += f;
-  }
-  // One-period moving average: 17 taps, half weight at both ends.
-  constexpr int kHalf = kBinsPerPeriod / 2;
+namespace {
+
+// Bins per fringe period of the sharpness profiles.
+constexpr int kSharpnessBinsPerPeriod = 16;
+
+// The sharpness of one binned profile: `sum` and `count` of bin j at
+// [j * stride], the one-period moving average (17 taps, half weight at both
+// ends: it removes the fringe fundamental exactly) subtracted from each bin
+// mean, the count-weighted mean square of the rest.
+double BinnedSharpness(const double* sum, const double* count, int bins,
+                       std::size_t stride) {
+  constexpr int kHalf = kSharpnessBinsPerPeriod / 2;
   double total = 0.0;
   double total_count = 0.0;
   for (int j = 0; j < bins; ++j) {
-    if (count[static_cast<std::size_t>(j)] < 1e-9) continue;
+    const std::size_t at = static_cast<std::size_t>(j) * stride;
+    if (count[at] < 1e-9) continue;
     double ma_sum = 0.0;
     double ma_count = 0.0;
     for (int k = -kHalf; k <= kHalf; ++k) {
       const int m = j + k;
       if (m < 0 || m >= bins) continue;
       const double tap = (k == -kHalf || k == kHalf) ? 0.5 : 1.0;
-      ma_sum += tap * sum[static_cast<std::size_t>(m)];
-      ma_count += tap * count[static_cast<std::size_t>(m)];
+      const std::size_t mt = static_cast<std::size_t>(m) * stride;
+      ma_sum += tap * sum[mt];
+      ma_count += tap * count[mt];
     }
-    const double mean =
-        sum[static_cast<std::size_t>(j)] / count[static_cast<std::size_t>(j)];
-    const double hp = mean - ma_sum / ma_count;
-    total += count[static_cast<std::size_t>(j)] * hp * hp;
-    total_count += count[static_cast<std::size_t>(j)];
+    const double hp = sum[at] / count[at] - ma_sum / ma_count;
+    total += count[at] * hp * hp;
+    total_count += count[at];
   }
   return total_count > 0.0 ? total / total_count : 0.0;
+}
+
+// Largest |x - cx| and |y - cy| over the samples, for centres within
+// `reach` of `centre` (bounds the r^2 range of the profiles).
+cv::Point2d FarthestOffsets(const PixelSamples& samples, cv::Point2d centre,
+                            double reach) {
+  if (samples.x.empty()) return {0.0, 0.0};
+  const auto [x_lo, x_hi] =
+      std::minmax_element(samples.x.begin(), samples.x.end());
+  const auto [y_lo, y_hi] =
+      std::minmax_element(samples.y.begin(), samples.y.end());
+  return {std::max(std::abs(static_cast<double>(*x_lo) - centre.x),
+                   std::abs(static_cast<double>(*x_hi) - centre.x)) +
+              reach,
+          std::max(std::abs(static_cast<double>(*y_lo) - centre.y),
+                   std::abs(static_cast<double>(*y_hi) - centre.y)) +
+              reach};
+}
+
+// ProfileSharpness at the nine centres centre + (i, j) step, i, j in
+// {-1, 0, 1} (index (j + 1) * 3 + i + 1), in one parallel pass over the
+// samples: r^2 about each grid centre follows from r^2 about `centre` as
+// r^2 - 2 step (i dx + j dy) + step^2 (i^2 + j^2), and the nine profiles
+// are interleaved per bin so that the updates of one sample stay close.
+std::array<double, 9> SharpnessGrid(const PixelSamples& samples,
+                                    cv::Point2d centre, double step,
+                                    double period_r2_px2) {
+  const double width = period_r2_px2 / kSharpnessBinsPerPeriod;
+  const double inverse = 1.0 / width;
+  const cv::Point2d far = FarthestOffsets(samples, centre, std::abs(step));
+  const int bins =
+      static_cast<int>((far.x * far.x + far.y * far.y) * inverse) + 2;
+  // Per bin: 9 grid centres x (sum, count).
+  constexpr std::size_t kPerBin = 18;
+  const std::size_t size = static_cast<std::size_t>(bins) * kPerBin;
+  std::vector<double> merged(size, 0.0);
+  std::mutex merge;
+  const auto n = static_cast<int>(samples.x.size());
+  const int stripes = std::clamp(cv::getNumThreads(), 1, 8);
+  std::array<double, 9> shift{};  // step^2 (i^2 + j^2) / width
+  for (int g = 0; g < 9; ++g) {
+    const int i = g % 3 - 1;
+    const int j = g / 3 - 1;
+    shift[static_cast<std::size_t>(g)] =
+        step * step * (i * i + j * j) * inverse;
+  }
+  const double twice = 2.0 * step * inverse;
+  cv::parallel_for_(
+      cv::Range(0, n),
+      [&](const cv::Range& range) {
+        std::vector<double> h(size, 0.0);
+        for (int s = range.start; s < range.end; ++s) {
+          const auto k = static_cast<std::size_t>(s);
+          const double dx = static_cast<double>(samples.x[k]) - centre.x;
+          const double dy = static_cast<double>(samples.y[k]) - centre.y;
+          const double u0 = (dx * dx + dy * dy) * inverse;
+          const double ax = twice * dx;
+          const double ay = twice * dy;
+          const auto v = static_cast<double>(samples.value[k]);
+          for (int g = 0; g < 9; ++g) {
+            const int i = g % 3 - 1;
+            const int j = g / 3 - 1;
+            // r^2 >= 0; max() guards against rounding just below zero.
+            const double u = std::max(
+                0.0, u0 - i * ax - j * ay + shift[static_cast<std::size_t>(g)]);
+            const auto b = static_cast<std::size_t>(u);
+            const double f = u - static_cast<double>(b);
+            double* at =
+                h.data() + b * kPerBin + 2 * static_cast<std::size_t>(g);
+            at[0] += (1.0 - f) * v;
+            at[1] += 1.0 - f;
+            at[kPerBin] += f * v;
+            at[kPerBin + 1] += f;
+          }
+        }
+        const std::lock_guard<std::mutex> lock(merge);
+        for (std::size_t i = 0; i < size; ++i) merged[i] += h[i];
+      },
+      stripes);
+  std::array<double, 9> out{};
+  for (std::size_t g = 0; g < 9; ++g) {
+    out[g] = BinnedSharpness(merged.data() + 2 * g, merged.data() + 2 * g + 1,
+                             bins, kPerBin);
+  }
+  return out;
+}
+
+}  // namespace
+
+double ProfileSharpness(const PixelSamples& samples, cv::Point2d centre,
+                        double period_r2_px2) {
+  assert(period_r2_px2 > 0.0);
+  return SharpnessGrid(samples, centre, 0.0, period_r2_px2)[4];
 }
 
 CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
@@ -243,16 +348,10 @@ CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
   }
   while (step >= stop_step_px) {
     const PixelSamples& used = thin && step > kCoarseStepPx ? coarse : samples;
-    Eigen::Matrix<double, 9, 1> f;
-    // The nine evaluations are independent: run them in parallel.
-    cv::parallel_for_(cv::Range(0, 9), [&](const cv::Range& range) {
-      for (int row = range.start; row < range.end; ++row) {
-        const int i = row % 3 - 1;
-        const int j = row / 3 - 1;
-        f(row) = ProfileSharpness(
-            used, centre + cv::Point2d(i * step, j * step), period_r2_px2);
-      }
-    });
+    const std::array<double, 9> grid =
+        SharpnessGrid(used, centre, step, period_r2_px2);
+    const Eigen::Matrix<double, 9, 1> f =
+        Eigen::Map<const Eigen::Matrix<double, 9, 1>>(grid.data());
     int best = 4;
     for (int row = 0; row < 9; ++row) {
       if (f(row) > f(best)) best = row;

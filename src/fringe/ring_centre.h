@@ -8,6 +8,7 @@
 #include <span>
 
 #include "fringe/circle.h"
+#include "fringe/radial_profile.h"
 
 namespace figura {
 
@@ -45,6 +46,10 @@ struct PixelSamples {
 // `region`.
 PixelSamples SamplePixels(const cv::Mat& image, const Circle& region,
                           int stride);
+
+// The same for an image of size `size` whose rows come from `values`.
+PixelSamples SamplePixels(const RowValues& values, cv::Size size,
+                          const Circle& region, int stride);
 
 // Sharpness of the azimuthal-mean profile about `centre`: samples are binned
 // linearly into r^2 bins of width period / 16, the one-period moving average

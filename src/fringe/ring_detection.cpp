@@ -2,9 +2,11 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <cstdarg>
 #include <cstdio>
+#include <ctime>
 #include <limits>
 #include <mutex>
 #include <numbers>
@@ -51,6 +53,9 @@ constexpr double kTwoPi = 2.0 * std::numbers::pi;
 constexpr int kBinsPerPeriod = 24;
 // Largest working size for the coarse steps (aperture, gradient centre).
 constexpr int kWorkingSize = 640;
+// Evaluated apertures of more pixels than this use every other row before
+// the final sector profiles (the 12 MP benchmark photo has ~5.4 M).
+constexpr int kCoarseRowsAbove = 1500000;
 // Pixels used in the sharpness refinement at most.
 constexpr double kRefinementSamples = 400000.0;
 
@@ -176,13 +181,17 @@ std::vector<NumberedPoint> Numbered(const std::vector<FringePoint>& points) {
   return out;
 }
 
-// Sector profiles, mean-profile numbering and sector points about `centre`.
-Analysis AnalyseAbout(const cv::Mat& flat, const Circle& region,
-                      cv::Point2d centre, double period, int sector_count) {
+// Sector profiles, mean-profile numbering and sector points about `centre`
+// from every `row_step`-th row of the normalised image (`flat`, of size
+// `size`).
+Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
+                      const Circle& region, cv::Point2d centre, double period,
+                      int sector_count, int row_step) {
   Analysis out;
   // 7. Sector profiles about the refined centre.
-  const SectorProfiles sectors = AccumulateSectorProfiles(
-      flat, region, centre, period / kBinsPerPeriod, sector_count);
+  const SectorProfiles sectors =
+      AccumulateSectorProfiles(flat, size, region, centre,
+                               period / kBinsPerPeriod, sector_count, row_step);
   const R2Profile mean = ExtractProfile(sectors, -1);
   if (mean.r2.size() < 2 * static_cast<std::size_t>(kBinsPerPeriod)) {
     return Failed(
@@ -266,11 +275,16 @@ Analysis AnalyseAbout(const cv::Mat& flat, const Circle& region,
       // Mean azimuth of the pixels near the extremum.
       double angle_sum = 0.0;
       double angle_weight = 0.0;
-      for (std::size_t b = 0; b < profile.r2.size(); ++b) {
-        if (std::abs(profile.r2[b] - fit.position) <= 0.25 * period) {
-          angle_sum += profile.weight[b] * profile.angle[b];
-          angle_weight += profile.weight[b];
-        }
+      // (r2 increases along the profile: only the bins within a quarter
+      // period are visited.)
+      const auto near_begin = std::lower_bound(
+          profile.r2.begin(), profile.r2.end(), fit.position - 0.25 * period);
+      for (auto b = static_cast<std::size_t>(near_begin - profile.r2.begin());
+           b < profile.r2.size() &&
+           profile.r2[b] <= fit.position + 0.25 * period;
+           ++b) {
+        angle_sum += profile.weight[b] * profile.angle[b];
+        angle_weight += profile.weight[b];
       }
       FringePoint point;
       point.angle_rad = k * sector_width +
@@ -296,6 +310,63 @@ Analysis AnalyseAbout(const cv::Mat& flat, const Circle& region,
   return out;
 }
 
+// Records the wall and processor time since the previous lap as one named
+// stage.
+class StageClock {
+ public:
+  explicit StageClock(RingDetectionResult* result) : result_(result) {}
+  void Lap(const char* stage) {
+    const auto wall = std::chrono::steady_clock::now();
+    const std::clock_t cpu = std::clock();
+    result_->stage_times.push_back(
+        {stage, std::chrono::duration<double>(wall - wall_).count(),
+         static_cast<double>(cpu - cpu_) / CLOCKS_PER_SEC});
+    wall_ = wall;
+    cpu_ = cpu;
+  }
+
+ private:
+  RingDetectionResult* result_;
+  std::chrono::steady_clock::time_point wall_ =
+      std::chrono::steady_clock::now();
+  std::clock_t cpu_ = std::clock();
+};
+
+// The normalised image at the working resolution of the gradient centre:
+// the image reduced by `factor` (`reduced`, by area averaging) normalised with
+// the envelopes at each reduced pixel's centre, 0 outside `region`; at factor 1
+// the full normalised image.
+cv::Mat ReducedNormalised(const cv::Mat& image, const cv::Mat& reduced,
+                          const FlattenedImage& flat, const Circle& region,
+                          double factor) {
+  if (!(factor > 1.0)) return flat.Normalised(image, region);
+  cv::Mat small = reduced.clone();
+  const double sx = static_cast<double>(image.cols) / small.cols;
+  const double sy = static_cast<double>(image.rows) / small.rows;
+  const double r2 = region.radius * region.radius;
+  const double last_x = flat.mean.cols - 1;
+  const double last_y = flat.mean.rows - 1;
+  for (int j = 0; j < small.rows; ++j) {
+    auto* row = small.ptr<float>(j);
+    const double y = (j + 0.5) * sy - 0.5;
+    const double v = std::clamp((y + 0.5) / flat.scale - 0.5, 0.0, last_y);
+    for (int i = 0; i < small.cols; ++i) {
+      const double x = (i + 0.5) * sx - 0.5;
+      const double dx = x - region.centre.x;
+      const double dy = y - region.centre.y;
+      if (dx * dx + dy * dy > r2) {
+        row[i] = 0.0F;
+        continue;
+      }
+      const double u = std::clamp((x + 0.5) / flat.scale - 0.5, 0.0, last_x);
+      const double m = SampleBilinear(flat.mean, u, v);
+      const double g = SampleBilinear(flat.inverse_amplitude, u, v);
+      row[i] = static_cast<float>((static_cast<double>(row[i]) - m) * g);
+    }
+  }
+  return small;
+}
+
 // The message for a ring centre outside the image.
 std::string OutsideMessage(const cv::Point2d& centre, const cv::Mat& image) {
   return Format(
@@ -314,6 +385,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   }
   RingDetectionResult result;
   result.sectors = options.sectors;
+  StageClock clock(&result);
   const auto fail = [&result](const std::string& message) {
     result.status = Status::kError;
     result.points.clear();
@@ -335,6 +407,11 @@ RingDetectionResult DetectRings(const cv::Mat& input,
     return fail("no fringes: the image is uniform");
   }
 
+  clock.Lap("range");
+  // The image at the working size of the coarse steps (aperture, gradient
+  // centre), reduced once.
+  const cv::Mat reduced = ReduceToWorkingSize(image, kWorkingSize);
+
   // 1. Clear aperture.
   Circle aperture;
   if (options.aperture_centre_px) {
@@ -344,7 +421,8 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   } else {
     ApertureOptions aperture_options;
     aperture_options.working_size_px = kWorkingSize;
-    const ApertureResult found = DetectAperture(image, aperture_options);
+    const ApertureResult found =
+        DetectAperture(image, reduced, aperture_options);
     if (found.ok) {
       aperture = found.circle;
       result.aperture_detected = true;
@@ -357,6 +435,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
           "); evaluating the circle inscribed in the image");
     }
   }
+  clock.Lap("aperture");
   Circle region{aperture.centre, aperture.radius * options.aperture_fraction};
   result.aperture_centre_px = region.centre;
   result.aperture_radius_px = region.radius;
@@ -397,11 +476,13 @@ RingDetectionResult DetectRings(const cv::Mat& input,
                100.0 * result.saturated_fraction));
   }
 
+  clock.Lap("saturation");
   // 3. Flatten the illumination.
   IlluminationOptions illumination;
   illumination.smoothing_px = std::max(4.0, region.radius / 4.0);
   illumination.working_size_px = kWorkingSize;
   const FlattenedImage flat = FlattenIllumination(image, region, illumination);
+  clock.Lap("flatten");
   {
     // Visibility (Imax - Imin)/(Imax + Imin) = amplitude / mean, median over
     // the reduced pixels wholly inside the region.
@@ -432,19 +513,17 @@ RingDetectionResult DetectRings(const cv::Mat& input,
     }
   }
 
+  clock.Lap("visibility");
   // 4. First centre estimate from gradient lines, on a reduced image.
   const double factor =
       std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
                         kWorkingSize);
-  cv::Mat small;
-  if (factor > 1.0) {
-    cv::resize(flat.normalised, small,
-               cv::Size(static_cast<int>(std::lround(image.cols / factor)),
-                        static_cast<int>(std::lround(image.rows / factor))),
-               0, 0, cv::INTER_AREA);
-  } else {
-    small = flat.normalised;
-  }
+  // The normalised image row by row (no full-size copy).
+  const RowValues normalised = [&image, &flat](int y, int x0, int x1,
+                                               float* out) {
+    flat.NormaliseRow(image.ptr<float>(y), y, x0, x1, out);
+  };
+  const cv::Mat small = ReducedNormalised(image, reduced, flat, region, factor);
   const double sx = static_cast<double>(image.cols) / small.cols;
   const double sy = static_cast<double>(image.rows) / small.rows;
   Circle small_region{cv::Point2d((region.centre.x + 0.5) / sx - 0.5,
@@ -466,13 +545,19 @@ RingDetectionResult DetectRings(const cv::Mat& input,
                      (gradient.centre.y + 0.5) * sy - 0.5);
   if (!InsideImage(centre, image)) return fail(OutsideMessage(centre, image));
 
+  clock.Lap("gradient centre");
+  // Pixel-rich photographs: the steps before the final sector profiles
+  // (period, first sector profiles, whose points only serve the centre) use
+  // every other row; smaller ones use all rows.
+  const int coarse_rows = inside > kCoarseRowsAbove ? 2 : 1;
+
   // 5. Period in r^2 from the spectrum of the azimuthal mean profile.
   const double far = cv::norm(region.centre - centre) + region.radius;
   double period = 0.0;
   {
     const double bin = far * far / 4096.0;
-    const SectorProfiles coarse =
-        AccumulateSectorProfiles(flat.normalised, region, centre, bin, 1);
+    const SectorProfiles coarse = AccumulateSectorProfiles(
+        normalised, image.size(), region, centre, bin, 1, coarse_rows);
     std::vector<double> value;
     std::vector<double> weight;
     UniformMeanProfile(coarse, value, weight);
@@ -486,37 +571,43 @@ RingDetectionResult DetectRings(const cv::Mat& input,
     period = estimate.period;
   }
 
+  clock.Lap("period");
   // 6. Refine the centre: sharpest azimuthal-mean profile.
   {
     const int stride = std::max(
         1,
         static_cast<int>(std::floor(std::sqrt(inside / kRefinementSamples))));
-    const PixelSamples samples = SamplePixels(flat.normalised, region, stride);
+    const PixelSamples samples =
+        SamplePixels(normalised, image.size(), region, stride);
     const CentreRefinement refined = RefineCentreBySharpness(
         samples, centre, period, std::max(1.0, factor), 0.02);
     if (refined.ok) centre = refined.centre;
   }
+  clock.Lap("sharpness");
   if (!InsideImage(centre, image)) return fail(OutsideMessage(centre, image));
   result.centre_px = centre;
 
   // 7.-9. Profiles, numbering and sector points about the sharpest centre,
   // then once more about the centre of circles through those points.
-  Analysis analysis =
-      AnalyseAbout(flat.normalised, region, centre, period, options.sectors);
+  Analysis analysis = AnalyseAbout(normalised, image.size(), region, centre,
+                                   period, options.sectors, coarse_rows);
+  clock.Lap("sectors about the sharpest centre");
   if (!analysis.error.empty()) return fail(analysis.error);
   ConcentricFit circles =
       FitConcentricCircles(Numbered(analysis.points), centre);
   const cv::Point2d sharpest = centre;
   if (circles.ok && cv::norm(circles.centre - centre) < 3.0 &&
       InsideImage(circles.centre, image)) {
-    Analysis second = AnalyseAbout(flat.normalised, region, circles.centre,
-                                   analysis.period, options.sectors);
+    Analysis second =
+        AnalyseAbout(normalised, image.size(), region, circles.centre,
+                     analysis.period, options.sectors, 1);
     if (second.error.empty()) {
       centre = circles.centre;
       analysis = std::move(second);
       circles = FitConcentricCircles(Numbered(analysis.points), centre);
     }
   }
+  clock.Lap("sectors about the circles' centre");
   result.centre_px = centre;
   result.period_r2_px2 = analysis.period;
   result.first_dark_r2_px2 = analysis.s0;

@@ -51,6 +51,13 @@ struct FringePoint {
   int sector = 0;
 };
 
+// Time spent in one stage of a computation.
+struct StageTime {
+  std::string name;
+  double wall_s = 0.0;  // elapsed (wall-clock) seconds
+  double cpu_s = 0.0;   // processor seconds of the whole process (all threads)
+};
+
 // The outcome of ring detection.
 struct RingDetectionResult {
   Status status = Status::kError;
@@ -79,6 +86,9 @@ struct RingDetectionResult {
   double fringes_in_aperture = 0.0;
   // Fraction of the evaluated aperture's pixels at full scale.
   double saturated_fraction = 0.0;
+  // Time spent in each detection stage, in order, for speed measurements
+  // (tests/benchmarks/bench_rings.cpp).
+  std::vector<StageTime> stage_times;
 };
 
 // Detects rings in a grey image (CV_32FC1, any scale). Returns status kError
