@@ -159,7 +159,7 @@ void DrawPanel(cairo_t* cr, const Panel& p, const std::vector<double>& u,
   Text(cr, p.x0 + 0.5 * p.w, p.y0 + p.h + 30.0, xlabel, 0.5);
   Text(cr, p.x0, p.y0 - 6.0, title);
   cairo_save(cr);
-  cairo_move_to(cr, p.x0 - 44.0, p.y0 + 0.5 * p.h);
+  cairo_translate(cr, p.x0 - 44.0, p.y0 + 0.5 * p.h);
   cairo_rotate(cr, -M_PI / 2.0);
   Text(cr, 0.0, 0.0, "height (nm)", 0.5);
   cairo_restore(cr);
@@ -446,6 +446,7 @@ cv::Mat RenderSurfacePicture(const cv::Mat& height_m, const cv::Mat& unreliable,
   cairo_select_font_face(cr, "DejaVu Sans", CAIRO_FONT_SLANT_NORMAL,
                          CAIRO_FONT_WEIGHT_NORMAL);
   cairo_set_font_size(cr, 12.0);
+  const double legend_y = std::min(map_y + side + 36.0, h - 32.0);
   char line[256];
   if (any) {
     std::snprintf(line, sizeof line,
@@ -455,7 +456,7 @@ cv::Mat RenderSurfacePicture(const cv::Mat& height_m, const cv::Mat& unreliable,
   } else {
     std::snprintf(line, sizeof line, "no valid heights");
   }
-  Text(cr, kMargin, h - 32.0, line);
+  Text(cr, kMargin, legend_y, line);
   const double percent = in_aperture > 0
                              ? 100.0 * static_cast<double>(flagged) /
                                    static_cast<double>(in_aperture)
@@ -464,7 +465,7 @@ cv::Mat RenderSurfacePicture(const cv::Mat& height_m, const cv::Mat& unreliable,
                 "grey: no data    magenta: unreliable unwrapping (%.2g %% of "
                 "the aperture)",
                 percent);
-  Text(cr, kMargin, h - 12.0, line);
+  Text(cr, kMargin, legend_y + 20.0, line);
 
   if (cairo_status(cr) != CAIRO_STATUS_SUCCESS) {
     throw OutputError(std::string("surface picture: ") +
