@@ -116,7 +116,7 @@ ZernikeFitResult FitZernike(std::span<const SurfaceSample> samples,
   // Normal equations, accumulated in parallel over contiguous slices.
   const ZernikeBasis basis(p);
   const int slices = std::max(
-      1, std::min(cv::getNumThreads(), static_cast<int>(n / (4 * kBlockRows))));
+      1, std::min(cv::getNumThreads(), static_cast<int>(n / (4L * kBlockRows))));
   Normal total(p);
   std::mutex merge;
   cv::parallel_for_(
