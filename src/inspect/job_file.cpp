@@ -177,13 +177,96 @@ RingsOptions RingsOptionsFromSettings(SettingMap& s) {
   return options;
 }
 
+const std::vector<std::string>& MapSettingKeys() {
+  static const std::vector<std::string> keys = {"wavelength",
+                                                "view",
+                                                "contact",
+                                                "thin-side",
+                                                "terms",
+                                                "mode",
+                                                "pixel-pitch",
+                                                "aperture-centre",
+                                                "aperture-diameter",
+                                                "aperture-fraction",
+                                                "upper-index",
+                                                "gap-index",
+                                                "lower-index"};
+  return keys;
+}
+
+MapOptions MapOptionsFromSettings(SettingMap& s) {
+  MapOptions options;
+  auto what = [&](const char* key) { return s.What(key); };
+  const auto wavelength = s.Take("wavelength");
+  if (!wavelength) {
+    throw InputError(
+        "wavelength is required: a length (546.07nm) or a source name (" +
+        SourceTable::Default().Names() + ")");
+  }
+  options.wavelength = ResolveWavelength(*wavelength, SourceTable::Default(),
+                                         what("wavelength"));
+  if (auto v = s.Take("view")) options.view = ParseView(*v, what("view"));
+  if (auto v = s.Take("contact")) {
+    options.contact = ParseContact(*v, what("contact"));
+    options.contact_given = true;
+  }
+  if (auto v = s.Take("thin-side")) {
+    options.thin_side = ParseThinSide(*v, what("thin-side"));
+    options.thin_side_given = true;
+  }
+  if (auto v = s.Take("terms")) options.max_order = ParseInt(*v, what("terms"));
+  if (auto v = s.Take("mode")) options.mode = ParseMapMode(*v, what("mode"));
+  if (auto v = s.Take("pixel-pitch")) {
+    options.pixel_pitch_m = ParseLength(*v, what("pixel-pitch")).metres;
+  }
+  if (auto v = s.Take("upper-index")) {
+    options.stack.upper_index = ParseNumber(*v, what("upper-index"));
+  }
+  if (auto v = s.Take("gap-index")) {
+    options.stack.gap_index = ParseNumber(*v, what("gap-index"));
+  }
+  if (auto v = s.Take("lower-index")) {
+    options.stack.lower_index = ParseNumber(*v, what("lower-index"));
+  }
+  if (auto v = s.Take("aperture-fraction")) {
+    options.aperture_fraction = ParseNumber(*v, what("aperture-fraction"));
+  }
+  if (auto v = s.Take("aperture-centre")) {
+    options.aperture_centre_px = ParsePoint(*v, what("aperture-centre"));
+  }
+  if (auto v = s.Take("aperture-diameter")) {
+    const std::string_view t = Trim(*v);
+    const bool has_unit =
+        !t.empty() && std::isalpha(static_cast<unsigned char>(t.back())) != 0;
+    if (has_unit) {
+      const Length d = ParseLength(t, what("aperture-diameter"));
+      if (!options.pixel_pitch_m) {
+        throw InputError(what("aperture-diameter") +
+                         ": a length needs pixel-pitch (or give pixels)");
+      }
+      options.aperture_diameter_px = d.metres / *options.pixel_pitch_m;
+    } else {
+      options.aperture_diameter_px = ParseNumber(t, what("aperture-diameter"));
+    }
+  }
+  if (std::string why = options.Check(); !why.empty()) throw InputError(why);
+  return options;
+}
+
+nlohmann::json JobOptions::AnalysisSettingsJson() const {
+  return analysis == Analysis::kMap ? MapSettingsJson(map)
+                                    : RingsSettingsJson(rings, false);
+}
+
 const char* AnalysisName(Analysis analysis) {
   return analysis == Analysis::kMap ? "map" : "rings";
 }
 
 std::string JobOptions::Check() const {
-  if (analysis == Analysis::kRings) {
-    if (std::string why = rings.Check(); !why.empty()) return why;
+  if (std::string why =
+          analysis == Analysis::kMap ? map.Check() : rings.Check();
+      !why.empty()) {
+    return why;
   }
   if (test_diameter && !(test_diameter->metres > 0.0)) {
     return "test-diameter: must be positive";
@@ -202,21 +285,27 @@ JobOptions ParseJob(const IniFile& ini, const std::filesystem::path& base_dir) {
     if (a == "rings") {
       job.analysis = Analysis::kRings;
     } else if (a == "map") {
-      throw InputError(s.What("analysis") +
-                       ": 'map' is not available yet in this build (the "
-                       "surface-map analysis is still being written); use "
-                       "analysis = rings");
+      job.analysis = Analysis::kMap;
     } else {
       throw InputError(s.What("analysis") + ": '" + *v +
                        "' is not an analysis; accepted: rings, map");
     }
   }
   try {
-    job.rings = RingsOptionsFromSettings(s);
+    if (job.analysis == Analysis::kMap) {
+      job.map = MapOptionsFromSettings(s);
+    } else {
+      job.rings = RingsOptionsFromSettings(s);
+    }
   } catch (const InputError& e) {
     const std::string m = e.what();
     // Required-key and Check() messages carry no place: name the file.
     throw InputError(m.rfind(file, 0) == 0 ? m : file + ": " + m);
+  }
+  if (job.analysis == Analysis::kMap && s.Take("test-diameter")) {
+    throw InputError(s.What("test-diameter") +
+                     ": not used by analysis = map; set the evaluated area "
+                     "with aperture-diameter and aperture-fraction");
   }
   if (auto v = s.Take("test-diameter")) {
     job.test_diameter = ParseLength(*v, s.What("test-diameter"));
@@ -232,7 +321,7 @@ JobOptions ParseJob(const IniFile& ini, const std::filesystem::path& base_dir) {
     job.tolerance_text = std::string(Trim(*v));
     try {
       job.tolerance =
-          ParseFormTolerance(job.tolerance_text, job.rings.fit.wavelength);
+          ParseFormTolerance(job.tolerance_text, job.TestWavelength());
     } catch (const InputError& e) {
       throw InputError(s.What("tolerance") + ": " + e.what());
     }
@@ -253,8 +342,9 @@ JobOptions ParseJob(const IniFile& ini, const std::filesystem::path& base_dir) {
                      ": give either part-pattern or manifest, not both");
   }
   std::vector<std::string> known = JobKeys();
-  known.insert(known.end(), RingsSettingKeys().begin(),
-               RingsSettingKeys().end());
+  const std::vector<std::string>& analysis_keys =
+      job.analysis == Analysis::kMap ? MapSettingKeys() : RingsSettingKeys();
+  known.insert(known.end(), analysis_keys.begin(), analysis_keys.end());
   s.RefuseUnused(known);
   if (std::string why = job.Check(); !why.empty()) {
     throw InputError(file + ": " + why);
@@ -270,7 +360,7 @@ JobOptions LoadJobFile(const std::filesystem::path& path) {
 nlohmann::json JobSettingsJson(const JobOptions& job) {
   nlohmann::json j;
   j["analysis"] = AnalysisName(job.analysis);
-  j["analysis_settings"] = RingsSettingsJson(job.rings, false);
+  j["analysis_settings"] = job.AnalysisSettingsJson();
   j["test_diameter_mm"] = job.test_diameter
                               ? nlohmann::json(job.test_diameter->mm())
                               : nlohmann::json(nullptr);

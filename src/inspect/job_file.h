@@ -5,6 +5,9 @@
 //
 // Keys (docs/lots.md lists them with examples):
 //   analysis         rings | map
+//   (map: wavelength, view, contact, thin-side, terms, mode, pixel-pitch,
+//   aperture-centre, aperture-diameter, aperture-fraction and the indices,
+//   as for `figura map`)
 //   wavelength, pixel-pitch, pixel-pitch-u, view, upper-index, gap-index,
 //   lower-index, reference-radius, reference-radius-u, contact,
 //   aperture-centre, aperture-diameter, sectors, outlier-threshold
@@ -28,6 +31,7 @@
 
 #include "core/ini.h"
 #include "fringe/ring_analysis.h"
+#include "surface/surface_map.h"
 #include "tolerance/decision_rule.h"
 #include "tolerance/form_tolerance.h"
 
@@ -77,6 +81,17 @@ RingsOptions RingsOptionsFromSettings(SettingMap& settings);
 // The keys RingsOptionsFromSettings reads.
 const std::vector<std::string>& RingsSettingKeys();
 
+// Builds the surface-map options from settings named as the options of
+// `figura map` (wavelength, view, contact, thin-side, terms, mode,
+// pixel-pitch, aperture-centre, aperture-diameter, aperture-fraction,
+// upper-index, gap-index, lower-index). wavelength is required. Throws
+// InputError naming the key (and its place) on a bad value, or when the
+// result fails MapOptions::Check().
+MapOptions MapOptionsFromSettings(SettingMap& settings);
+
+// The keys MapOptionsFromSettings reads.
+const std::vector<std::string>& MapSettingKeys();
+
 // What a job analyses.
 enum class Analysis { kRings, kMap };
 
@@ -87,7 +102,8 @@ const char* AnalysisName(Analysis analysis);
 struct JobOptions {
   std::string path;  // the job file, for messages and the summary
   Analysis analysis = Analysis::kRings;
-  RingsOptions rings;
+  RingsOptions rings;  // analysis = rings
+  MapOptions map;      // analysis = map
   std::string tolerance_text;
   FormTolerance tolerance;  // parsed, test wavelength as fallback
   DecisionRule decision_rule = DecisionRule::kIso14253;
@@ -99,6 +115,12 @@ struct JobOptions {
 
   // Empty when usable, else a readable reason naming the key.
   [[nodiscard]] std::string Check() const;
+  // The test wavelength of the analysis.
+  [[nodiscard]] const Wavelength& TestWavelength() const {
+    return analysis == Analysis::kMap ? map.wavelength : rings.fit.wavelength;
+  }
+  // The analysis settings block (RingsSettingsJson or MapSettingsJson).
+  [[nodiscard]] nlohmann::json AnalysisSettingsJson() const;
 };
 
 // Reads a job file: the keys at the top of this file. Throws InputError

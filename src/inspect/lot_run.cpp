@@ -5,7 +5,7 @@
 #include <map>
 #include <mutex>
 #include <opencv2/core.hpp>
-#include <opencv2/imgcodecs.hpp>
+#include <opencv2/imgproc.hpp>
 #include <optional>
 #include <set>
 #include <system_error>
@@ -18,6 +18,7 @@
 #include "inspect/part_id.h"
 #include "inspect/part_run.h"
 #include "io/atomic_file.h"
+#include "io/image.h"
 #include "io/image_writer.h"
 #include "io/result_json.h"
 #include "report/lot_index.h"
@@ -74,16 +75,23 @@ LotRow ProcessTask(const Task& task, const LotOptions& options,
   const fs::path json_path = out / (part + ".json");
   const bool exists = fs::exists(json_path);
   if (exists && !options.force) {
-    const std::optional<nlohmann::json> old = TryReadJson(json_path);
     std::string sha;
     try {
       sha = Sha256File(task.file);
-    } catch (const InputError&) {
-      sha.clear();
+    } catch (const InputError& e) {
+      // Unreadable now: an error row; the earlier part files stay.
+      LotRow row;
+      row.file = task.file;
+      row.part = part;
+      row.status = "error";
+      row.message = e.what();
+      return row;
     }
-    if (old && !sha.empty() &&
+    const std::optional<nlohmann::json> old = TryReadJson(json_path);
+    if (old && old->is_object() &&
         old->value("job_settings_sha256", "") == settings_sha256 &&
-        (*old)["input"].value("sha256", "") == sha &&
+        old->value("input", nlohmann::json::object()).value("sha256", "") ==
+            sha &&
         (!options.write_reports || fs::exists(out / (part + ".pdf")))) {
       LotRow row = RowFromPartResult(*old, task.file);
       row.skipped = true;
@@ -115,7 +123,12 @@ LotRow ProcessTask(const Task& task, const LotOptions& options,
         !outcome.rings.fit_points.empty()) {
       const fs::path plot_path = out / (part + ".plot.png");
       WriteRingPlot(plot_path, outcome.rings, options.job.rings.fit);
-      plot = cv::imread(plot_path.string(), cv::IMREAD_COLOR);
+      // Read back for the PDF as 8-bit grey shown in BGR (the plot's
+      // colours are kept in the PNG itself).
+      const Image picture = LoadImage(plot_path);
+      cv::Mat grey;
+      picture.pixels.convertTo(grey, CV_8U, 255.0 / picture.info.full_scale);
+      cv::cvtColor(grey, plot, cv::COLOR_GRAY2BGR);
     }
     if (options.write_reports) {
       WritePartReport(out / (part + ".pdf"), outcome.result, outcome.picture,
@@ -260,10 +273,12 @@ LotResult RunLot(const LotOptions& options) {
                          ? static_cast<unsigned>(options.jobs)
                          : std::max(1U, std::thread::hardware_concurrency());
   workers = std::min<unsigned>(workers, static_cast<unsigned>(tasks.size()));
-  // One photo per worker; OpenCV's own pool would fight ours (Debian's
-  // OpenCV runs one parallel region at a time, ../shared/libraries.md).
+  // One photo per worker and one thread per photo: OpenCV's own pool would
+  // fight ours (Debian's OpenCV runs one parallel region at a time,
+  // ../shared/libraries.md), and --jobs N means N cores (a cluster task
+  // given one core runs --jobs 1).
   const int cv_threads = cv::getNumThreads();
-  if (workers > 1) cv::setNumThreads(1);
+  cv::setNumThreads(1);
 
   Progress progress(static_cast<int>(tasks.size()), options.progress);
   std::vector<std::optional<LotRow>> rows(tasks.size());
@@ -297,7 +312,7 @@ LotResult RunLot(const LotOptions& options) {
     for (std::thread& t : pool) t.join();
   }
   progress.Finish();
-  if (workers > 1) cv::setNumThreads(cv_threads);
+  cv::setNumThreads(cv_threads);
 
   for (std::optional<LotRow>& r : rows) {
     if (r) summary.rows.push_back(std::move(*r));

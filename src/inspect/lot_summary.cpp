@@ -177,8 +177,8 @@ std::string LotSummaryCsv(const LotSummary& s) {
   }
   out += '\n';
   for (const LotRow& r : s.rows) {
-    for (const std::string* field : {&r.file, &r.part, &r.serial, &r.status,
-                                     &r.verdict, &r.message}) {
+    for (const std::string* field :
+         {&r.file, &r.part, &r.serial, &r.status, &r.verdict, &r.message}) {
       if (field != &r.file) out += ',';
       out += CsvField(*field);
     }

@@ -3,6 +3,7 @@
 #include <cctype>
 #include <set>
 #include <sstream>
+#include <string_view>
 
 #include "core/error.h"
 #include "core/quantity.h"
@@ -114,10 +115,11 @@ PartNamer::PartNamer(const PartIdOptions& options) : options_(options) {
         re += "[^/]*";
       } else if (c == '?') {
         re += "[^/]";
-      } else if (std::isalnum(static_cast<unsigned char>(c)) != 0) {
+      } else if (std::string_view(R"(.^$|()[]{}+\)").find(c) !=
+                 std::string_view::npos) {
+        re += '\\';  // a regex metacharacter, taken literally
         re += c;
       } else {
-        re += '\\';
         re += c;
       }
     }

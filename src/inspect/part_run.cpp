@@ -4,9 +4,11 @@
 #include <limits>
 
 #include "core/error.h"
+#include "core/sha256.h"
 #include "io/image.h"
 #include "io/result_json.h"
 #include "report/ring_overlay.h"
+#include "report/surface_picture.h"
 
 namespace figura {
 namespace {
@@ -45,6 +47,21 @@ FormMeasurement RingsFormMeasurement(const RingsResult& result,
   return m;
 }
 
+FormMeasurement MapFormMeasurement(const MapResult& result) {
+  FormMeasurement m;
+  if (result.status == Status::kError) return m;
+  const FormMetrics& f = result.metrics;
+  constexpr double kCoverage = 2.0;  // GUM k = 2, about 95 %
+  m.Set(FormCharacteristic::kPower,
+        {f.power_m * 1e9, kCoverage * f.power_u_m * 1e9});
+  m.Set(FormCharacteristic::kIrregularity, {f.irregularity_m * 1e9, kNan});
+  m.Set(FormCharacteristic::kRsi, {f.rsi_m * 1e9, kNan});
+  m.Set(FormCharacteristic::kRmsTotal, {f.rmst_m * 1e9, kNan});
+  m.Set(FormCharacteristic::kRmsIrregularity, {f.rmsi_m * 1e9, kNan});
+  m.Set(FormCharacteristic::kRmsNonSymmetric, {f.rmsa_m * 1e9, kNan});
+  return m;
+}
+
 PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
                         const JobOptions& job, const std::string& date_utc) {
   PartOutcome out;
@@ -55,12 +72,44 @@ PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
     image = LoadImage(file);
     loaded = true;
   } catch (const InputError& e) {
-    j = {{"input", {{"path", file}}},
-         {"settings", RingsSettingsJson(job.rings, false)},
+    nlohmann::json input = {{"path", file}};
+    try {
+      // A readable file that is no photograph keeps its hash, so that a
+      // rerun knows it unchanged.
+      input["sha256"] = Sha256File(file);
+    } catch (const InputError&) {
+      input["sha256"] = nullptr;
+    }
+    j = {{"input", input},
+         {"settings", job.AnalysisSettingsJson()},
          {"tool", ToolJson()},
          {"status", StatusJson(Status::kError, {e.what()})}};
   }
-  if (loaded) {
+  FormMeasurement measured;
+  if (loaded && job.analysis == Analysis::kMap) {
+    MapResult map;
+    try {
+      map = AnalyseMap(image, job.map);
+    } catch (const InputError& e) {
+      map = MapResult{};
+      map.status = Status::kError;
+      map.messages = {e.what()};
+    }
+    j = MapJson(map, job.map, InputJson(image.info));
+    if (map.status != Status::kError && !map.height_m.empty()) {
+      try {
+        SurfacePictureOptions po;
+        if (job.map.pixel_pitch_m) po.pixel_pitch_m = *job.map.pixel_pitch_m;
+        out.picture = RenderSurfacePicture(
+            map.height_m, map.unreliable, map.aperture_px,
+            job.map.wavelength.value.metres,
+            id.part + " - gap map, piston and tilt removed", po);
+      } catch (const InputError&) {
+        out.picture = cv::Mat();  // the report then shows no picture
+      }
+    }
+    measured = MapFormMeasurement(map);
+  } else if (loaded) {
     try {
       out.rings = AnalyseRings(image, job.rings);
     } catch (const InputError& e) {
@@ -70,6 +119,7 @@ PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
     }
     j = RingsJson(out.rings, job.rings, InputJson(image.info));
     out.picture = RenderRingOverlay(image, out.rings);
+    measured = RingsFormMeasurement(out.rings, job.rings);
   }
   j["analysis"] = AnalysisName(job.analysis);
   j["part"] = {{"lot", job.lot},
@@ -84,15 +134,19 @@ PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
   if (!error) {
     ConformanceOptions copt;
     copt.rule = job.decision_rule;
-    const ConformanceResult c = EvaluateConformance(
-        job.tolerance, RingsFormMeasurement(out.rings, job.rings), copt);
+    const ConformanceResult c =
+        EvaluateConformance(job.tolerance, measured, copt);
     j["conformance"] = ConformanceJson(c);
     if (!c.messages.empty()) j["conformance"]["messages"] = c.messages;
     j["conformance"]["measurement_note"] =
-        "A = power_fringes against the reference over the evaluated "
-        "diameter; B = |astigmatism_fringes| (the ring fit measures no "
-        "higher-order irregularity); C and RMS forms are not measured from "
-        "rings";
+        job.analysis == Analysis::kMap
+            ? "A, B, C and RMS forms from the surface map (ISO 14999-4 "
+              "reading, surface/form_metrics.h); only A carries an "
+              "uncertainty"
+            : "A = power_fringes against the reference over the evaluated "
+              "diameter; B = |astigmatism_fringes| (the ring fit measures no "
+              "higher-order irregularity); C and RMS forms are not measured "
+              "from rings";
   }
   out.row = RowFromPartResult(j, file);
   return out;

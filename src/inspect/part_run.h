@@ -33,12 +33,20 @@ namespace figura {
 FormMeasurement RingsFormMeasurement(const RingsResult& result,
                                      const RingsOptions& options);
 
+// The measured form of a surface map in nm of surface (gap metres from
+// surface/form_metrics.h): A = power_m with U95 = k * power_u_m (k = 2, GUM);
+// B = irregularity_m, C = rsi_m, RMSt/RMSi/RMSa = rmst_m/rmsi_m/rmsa_m,
+// these without an uncertainty (NaN U95: indeterminate under ISO 14253-1,
+// decided by value under decision-rule = simple). Nothing is set for a
+// result with status error.
+FormMeasurement MapFormMeasurement(const MapResult& result);
+
 // The outcome of one part.
 struct PartOutcome {
   nlohmann::json result;  // the part result JSON
   LotRow row;
   cv::Mat picture;    // 8-bit BGR overlay for the report; empty on load errors
-  RingsResult rings;  // the analysis (for the plot)
+  RingsResult rings;  // analysis = rings (for the plot)
 };
 
 // Inspects `file` (as given) for part `id`: never throws for a bad

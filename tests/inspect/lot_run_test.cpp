@@ -1,0 +1,189 @@
+// A simulated lot through RunLot: one row per input, verdicts from the
+// simulator's truth under the ISO 14253-1 decision rule, resume, refusal to
+// overwrite, interruption and merge.
+#include "inspect/lot_run.h"
+
+#include <gtest/gtest.h>
+
+#include <atomic>
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <string>
+
+#include "core/error.h"
+#include "core/ini.h"
+#include "core/text_file.h"
+#include "inspect/sim_lot.h"
+
+namespace figura {
+namespace {
+
+namespace fs = std::filesystem;
+
+fs::path Root() { return fs::path(FIGURA_TEST_TMP) / "inspect_lot_run"; }
+
+// Part -> truth power (fringes); "junk" is unreadable.
+std::map<std::string, double>& Truth() {
+  static std::map<std::string, double> truth;
+  return truth;
+}
+
+class LotRunTest : public ::testing::Test {
+ protected:
+  static void SetUpTestSuite() {
+    fs::remove_all(Root());
+    fs::create_directories(Root() / "photos");
+    // 6 fringes: inside +-8; 11: outside; 8: on the limit.
+    Truth()["P-pass"] =
+        test::WriteLotPhoto(Root() / "photos/P-pass.tif", 6.0, 101);
+    Truth()["P-fail"] =
+        test::WriteLotPhoto(Root() / "photos/P-fail.tif", 11.0, 102);
+    Truth()["P-edge"] =
+        test::WriteLotPhoto(Root() / "photos/P-edge.tif", 8.0, 103);
+    test::WriteJunkPhoto(Root() / "photos/P-junk.tif");
+  }
+
+  static LotOptions Options(const std::string& out,
+                            const std::string& extra = {}) {
+    LotOptions o;
+    o.job = ParseJob(IniFile::Parse(test::LotJobText(extra), "job.ini"), ".");
+    o.inputs = {(Root() / "photos").string()};
+    o.out_dir = Root() / out;
+    o.jobs = 2;
+    o.progress = ProgressStyle::kQuiet;
+    return o;
+  }
+};
+
+// The verdict the truth calls for under ISO 14253-1 with a +-8 fringe
+// limit: clearly inside passes, clearly outside fails, on the limit cannot
+// be decided.
+std::string ExpectedVerdict(double truth) {
+  if (std::abs(std::abs(truth) - 8.0) < 1e-6) return "indeterminate";
+  return std::abs(truth) < 8.0 ? "pass" : "fail";
+}
+
+TEST_F(LotRunTest, VerdictsMatchTruth) {
+  const LotResult r = RunLot(Options("run"));
+  ASSERT_EQ(r.summary.rows.size(), 4U);  // one row per input, errors too
+  EXPECT_EQ(r.exit_code, 2);             // an unreadable photo
+  for (const LotRow& row : r.summary.rows) {
+    if (row.part == "P-junk") {
+      EXPECT_EQ(row.status, "error");
+      EXPECT_EQ(row.verdict, "");
+      EXPECT_FALSE(row.message.empty());
+      continue;
+    }
+    ASSERT_NE(row.status, "error") << row.file << ": " << row.message;
+    const double truth = Truth().at(row.part);
+    EXPECT_EQ(row.verdict, ExpectedVerdict(truth)) << row.part;
+    // The measured power and its U95 cover the simulated truth (GUM k = 2).
+    const double power = row.Value("power_fringes");
+    const double u95 = row.Value("power_u95_fringes");
+    EXPECT_LE(std::abs(power - truth), u95) << row.part;
+    EXPECT_GT(u95, 0.0);
+    std::printf("%s: power %.4f fringes (truth %.4f), U95 %.4f\n",
+                row.part.c_str(), power, truth, u95);
+    EXPECT_TRUE(fs::exists(Root() / "run" / row.result_json));
+    EXPECT_TRUE(fs::exists(Root() / "run" / row.pdf));
+  }
+  const std::string csv = ReadTextFile(Root() / "run/summary.csv");
+  int lines = 0;
+  for (char c : csv) lines += c == '\n' ? 1 : 0;
+  EXPECT_EQ(lines, 5);
+  EXPECT_EQ(csv.rfind("file,part,serial,status,verdict,message,", 0), 0U);
+  const LotSummary back = ReadLotSummary(Root() / "run/summary.json");
+  EXPECT_EQ(back.rows.size(), 4U);
+  EXPECT_EQ(back.lot, "T-0042");
+  EXPECT_EQ(back.Counts().pass, 1);
+  EXPECT_EQ(back.Counts().fail, 1);
+  EXPECT_EQ(back.Counts().indeterminate, 1);
+  EXPECT_EQ(back.Counts().error, 1);
+}
+
+TEST_F(LotRunTest, RerunSkipsUnchangedAndForceRecomputes) {
+  (void)RunLot(Options("resume"));
+  const LotResult again = RunLot(Options("resume"));
+  int skipped = 0;
+  for (const LotRow& row : again.summary.rows) skipped += row.skipped ? 1 : 0;
+  // Every unchanged input, the unreadable one too (its error is reused).
+  EXPECT_EQ(skipped, 4);
+  EXPECT_EQ(again.exit_code, 2);
+  LotOptions force = Options("resume");
+  force.force = true;
+  const LotResult forced = RunLot(force);
+  for (const LotRow& row : forced.summary.rows) EXPECT_FALSE(row.skipped);
+}
+
+TEST_F(LotRunTest, OtherSettingsDoNotOverwrite) {
+  (void)RunLot(Options("guard"));
+  EXPECT_THROW(RunLot(Options("guard", "pixel-pitch-u = 0.1um\n")),
+               OutputError);
+}
+
+TEST_F(LotRunTest, ChangedPhotoIsNotOverwrittenSilently) {
+  const fs::path dir = Root() / "changed";
+  fs::create_directories(dir / "in");
+  fs::copy_file(Root() / "photos/P-pass.tif", dir / "in/P-x.tif");
+  LotOptions o = Options("changed/out");
+  o.inputs = {(dir / "in/P-x.tif").string()};
+  EXPECT_EQ(RunLot(o).summary.rows.at(0).verdict, "pass");
+  fs::copy_file(Root() / "photos/P-fail.tif", dir / "in/P-x.tif",
+                fs::copy_options::overwrite_existing);
+  const LotRow row = RunLot(o).summary.rows.at(0);
+  EXPECT_EQ(row.status, "error");
+  EXPECT_NE(row.message.find("not overwritten"), std::string::npos);
+  o.force = true;
+  EXPECT_EQ(RunLot(o).summary.rows.at(0).verdict, "fail");
+}
+
+TEST_F(LotRunTest, StopFlagLeavesACompleteSummary) {
+  std::atomic<bool> stop{true};
+  LotOptions o = Options("stopped");
+  o.stop = &stop;
+  const LotResult r = RunLot(o);
+  EXPECT_TRUE(r.summary.interrupted);
+  EXPECT_EQ(r.exit_code, kExitInterrupted);
+  EXPECT_EQ(r.summary.inputs_total, 4);
+  const LotSummary back = ReadLotSummary(Root() / "stopped/summary.json");
+  EXPECT_TRUE(back.interrupted);
+  EXPECT_EQ(back.rows.size(), r.summary.rows.size());
+}
+
+TEST_F(LotRunTest, MergeShards) {
+  LotOptions a = Options("shards/a");
+  a.inputs = {(Root() / "photos/P-pass.tif").string(),
+              (Root() / "photos/P-junk.tif").string()};
+  LotOptions b = Options("shards/b");
+  b.inputs = {(Root() / "photos/P-fail.tif").string(),
+              (Root() / "photos/P-edge.tif").string()};
+  (void)RunLot(a);
+  (void)RunLot(b);
+  MergeOptions m;
+  m.shards = {Root() / "shards/a", Root() / "shards/b"};
+  m.out_dir = Root() / "shards/all";
+  const LotResult r = MergeLots(m);
+  ASSERT_EQ(r.summary.rows.size(), 4U);
+  EXPECT_EQ(r.summary.inputs_total, 4);
+  EXPECT_EQ(r.exit_code, 2);
+  for (const LotRow& row : r.summary.rows) {
+    if (!row.pdf.empty()) {
+      EXPECT_TRUE(fs::exists(Root() / "shards/all" / row.pdf)) << row.pdf;
+    }
+  }
+  // A shard made with other settings is refused.
+  LotOptions c = Options("shards/c", "pixel-pitch-u = 0.1um\n");
+  c.inputs = {(Root() / "photos/P-pass.tif").string()};
+  (void)RunLot(c);
+  m.shards = {Root() / "shards/a", Root() / "shards/c"};
+  m.out_dir = Root() / "shards/bad";
+  EXPECT_THROW(MergeLots(m), InputError);
+  // The same part in two shards is refused.
+  m.shards = {Root() / "shards/a", Root() / "shards/a"};
+  EXPECT_THROW(MergeLots(m), InputError);
+}
+
+}  // namespace
+}  // namespace figura
