@@ -2,12 +2,15 @@
 
 #include <cassert>
 #include <climits>
+#include <cstdint>
 #include <future>
-#include <opencv2/imgcodecs.hpp>
+#include <opencv2/imgproc.hpp>
+#include <string>
 
 #include "core/error.h"
 #include "core/sha256.h"
 #include "io/byte_source.h"
+#include "io/codec_module.h"
 #include "io/image_header.h"
 #include "io/luminance.h"
 #include "io/tiff_decoder.h"
@@ -30,39 +33,25 @@ void CheckOptions(const LoadOptions& options) {
   if (!problem.empty()) throw InputError("image loading: " + problem);
 }
 
-// Decodes a PNG, JPEG or BMP held in memory with OpenCV.
-cv::Mat DecodeWithOpenCv(const MemorySource& source, ImageFormat format,
-                         const ImageHeader& header) {
-  const std::string_view bytes = source.Memory();
+// Decodes a PNG, JPEG or BMP held in memory with the codec module (loaded
+// on first use).
+DecodedPixels DecodeWithModule(const MemorySource& source, ImageFormat format,
+                               const ImageHeader& header) {
   const char* kind = ImageFormatName(format);
   if (format == ImageFormat::kJpeg && !JpegIsComplete(source)) {
     throw InputError(source.Name() +
                      ": truncated or corrupt jpeg (no end of image marker)");
   }
-  if (bytes.size() > static_cast<std::size_t>(INT_MAX)) {
+  if (source.Size() > static_cast<std::uint64_t>(INT_MAX)) {
     throw InputError(source.Name() + ": " + kind +
                      " file too large to decode (limit 2 GiB)");
   }
-  const cv::Mat encoded(1, static_cast<int>(bytes.size()), CV_8UC1,
-                        const_cast<char*>(bytes.data()));
-  cv::Mat decoded;
-  try {
-    decoded = cv::imdecode(encoded, cv::IMREAD_ANYDEPTH | cv::IMREAD_ANYCOLOR |
-                                        cv::IMREAD_IGNORE_ORIENTATION);
-  } catch (const cv::Exception& e) {
-    throw InputError(source.Name() + ": cannot decode " + kind + " (" + e.err +
-                     ")");
-  }
-  if (decoded.empty())
-    throw InputError(source.Name() + ": truncated or corrupt " + kind);
-  if (decoded.cols != header.width || decoded.rows != header.height) {
+  DecodedPixels decoded =
+      CodecModule::Shared().Decode(source.Name(), kind, source.Memory());
+  if (decoded.pixels().cols != header.width ||
+      decoded.pixels().rows != header.height) {
     throw InputError(source.Name() + ": corrupt " + kind +
                      " (decoded size differs from header)");
-  }
-  const int depth = decoded.depth();
-  if (depth != CV_8U && depth != CV_16U) {
-    throw InputError(source.Name() + ": unsupported " + kind +
-                     " sample format");
   }
   return decoded;
 }
@@ -75,16 +64,21 @@ std::string LoadOptions::Check() const {
   return {};
 }
 
-Image LoadImage(const std::filesystem::path& path, const LoadOptions& options) {
+Image DecodeImage(const std::string& name, std::string_view bytes,
+                  const LoadOptions& options) {
   CheckOptions(options);
-  const FileSource file(path, options.max_file_bytes);
-  const std::string bytes = file.ReadAll();
-  const MemorySource source(file.Name(), bytes);
+  if (bytes.empty()) throw InputError(name + ": empty file (0 bytes)");
+  if (bytes.size() > options.max_file_bytes) {
+    throw InputError(name + ": file too large (" +
+                     std::to_string(bytes.size()) + " bytes, limit " +
+                     std::to_string(options.max_file_bytes) + ")");
+  }
+  const MemorySource source(name, bytes);
   // The hash runs beside the decode (both only read `bytes`).
   std::future<std::string> digest =
-      std::async(std::launch::async, [&bytes] { return Sha256Hex(bytes); });
+      std::async(std::launch::async, [bytes] { return Sha256Hex(bytes); });
   Image image;
-  image.info.path = file.Name();
+  image.info.path = name;
   const ImageFormat format = DetectImageFormat(source);
   if (format == ImageFormat::kTiff) {
     image.pixels = DecodeTiff(source, options.max_pixels, &image.info);
@@ -93,15 +87,64 @@ Image LoadImage(const std::filesystem::path& path, const LoadOptions& options) {
     CheckPixelLimit(source.Name(), header.width, header.height,
                     options.max_pixels);
     FillFromHeader(format, header, &image.info);
-    const cv::Mat decoded = DecodeWithOpenCv(source, format, header);
+    const DecodedPixels decoded = DecodeWithModule(source, format, header);
     // The decoded depth decides the scale (a 16-bit PNG stays 16-bit).
-    image.info.bit_depth = decoded.depth() == CV_16U ? 16 : 8;
-    image.info.full_scale = decoded.depth() == CV_16U ? 65535.0 : 255.0;
-    image.pixels = LuminanceFromBgr(decoded);
+    const bool is16 = decoded.pixels().depth() == CV_16U;
+    image.info.bit_depth = is16 ? 16 : 8;
+    image.info.full_scale = is16 ? 65535.0 : 255.0;
+    image.pixels = LuminanceFromBgr(decoded.pixels());
   }
   image.info.sha256 = digest.get();
   assert(image.pixels.type() == CV_32FC1);
   return image;
+}
+
+Image LoadImage(const std::filesystem::path& path, const LoadOptions& options) {
+  CheckOptions(options);
+  const FileSource file(path, options.max_file_bytes);
+  const std::string bytes = file.ReadAll();
+  return DecodeImage(file.Name(), bytes, options);
+}
+
+cv::Mat LoadPicture(const std::filesystem::path& path,
+                    const LoadOptions& options) {
+  CheckOptions(options);
+  const FileSource file(path, options.max_file_bytes);
+  const std::string bytes = file.ReadAll();
+  const MemorySource source(file.Name(), bytes);
+  const ImageFormat format = DetectImageFormat(source);
+  cv::Mat picture;
+  if (format == ImageFormat::kTiff) {
+    ImageInfo info;
+    const cv::Mat grey = DecodeTiff(source, options.max_pixels, &info);
+    cv::Mat grey8;
+    grey.convertTo(grey8, CV_8U, 255.0 / info.full_scale);
+    cv::cvtColor(grey8, picture, cv::COLOR_GRAY2BGR);
+    return picture;
+  }
+  const ImageHeader header = ReadImageHeader(source, format);
+  CheckPixelLimit(source.Name(), header.width, header.height,
+                  options.max_pixels);
+  const DecodedPixels decoded = DecodeWithModule(source, format, header);
+  cv::Mat samples = decoded.pixels();
+  if (samples.depth() == CV_16U) {
+    samples.convertTo(samples, CV_8U, 1.0 / 257.0);  // 65535 -> 255
+  }
+  switch (samples.channels()) {
+    case 1:
+      cv::cvtColor(samples, picture, cv::COLOR_GRAY2BGR);
+      break;
+    case 2:  // grey + alpha
+      cv::extractChannel(samples, samples, 0);
+      cv::cvtColor(samples, picture, cv::COLOR_GRAY2BGR);
+      break;
+    case 4:
+      cv::cvtColor(samples, picture, cv::COLOR_BGRA2BGR);
+      break;
+    default:
+      picture = samples.clone();  // the module's buffer goes away
+  }
+  return picture;
 }
 
 ImageInfo ProbeImage(const std::filesystem::path& path,

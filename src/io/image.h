@@ -1,6 +1,7 @@
 // Loading fringe photographs: TIFF through libtiff (8/16-bit unsigned,
 // 32-bit float; grey or RGB; strips or tiles; any compression libtiff
-// reads), PNG/JPEG/BMP through OpenCV (16-bit kept). Formats are recognised
+// reads), PNG/JPEG/BMP through OpenCV in the codec module, loaded on first
+// use (io/codec_module.h; 16-bit kept). Formats are recognised
 // by their signature, not their extension. Sizes are checked from the header
 // before any pixel buffer is allocated.
 #pragma once
@@ -9,6 +10,7 @@
 #include <filesystem>
 #include <opencv2/core.hpp>
 #include <string>
+#include <string_view>
 
 namespace figura {
 
@@ -53,6 +55,18 @@ struct Image {
 // too large, unsupported sample format).
 Image LoadImage(const std::filesystem::path& path,
                 const LoadOptions& options = {});
+
+// Decodes a file already held in memory exactly as LoadImage does; `name`
+// stands for the file in info.path and in messages.
+Image DecodeImage(const std::string& name, std::string_view bytes,
+                  const LoadOptions& options = {});
+
+// Loads a picture for display, not measurement (a plot, a thumbnail): any
+// format LoadImage reads, as 8-bit BGR (CV_8UC3; grey repeated, 16-bit
+// scaled by 255/65535, alpha dropped, TIFF as its grey scaled to 0..255).
+// Checks and errors as LoadImage.
+cv::Mat LoadPicture(const std::filesystem::path& path,
+                    const LoadOptions& options = {});
 
 // Reads only the header: format, size, depth, channels (no pixels, no hash).
 // Throws InputError like LoadImage.

@@ -3,7 +3,6 @@
 #include <algorithm>
 #include <cctype>
 #include <cstring>
-#include <opencv2/imgcodecs.hpp>
 #include <opencv2/imgproc.hpp>
 #include <string>
 #include <vector>
@@ -11,6 +10,7 @@
 #include "core/error.h"
 #include "core/version.h"
 #include "io/atomic_file.h"
+#include "io/codec_module.h"
 #include "io/tiff_io.h"
 
 namespace figura {
@@ -118,26 +118,19 @@ std::string EncodeTiff(const fs::path& path, const cv::Mat& image) {
   return std::move(file.bytes);
 }
 
-std::string EncodeWithOpenCv(const fs::path& path, const cv::Mat& image,
+// Encodes a PNG or JPEG with the codec module (loaded on first use).
+std::string EncodeWithModule(const fs::path& path, const cv::Mat& image,
                              OutFormat format,
                              const ImageWriteOptions& options) {
-  std::vector<int> params;
-  const char* ext = ".png";
   if (format == OutFormat::kJpeg) {
     if (image.depth() != CV_8U) Fail(path, "JPEG output must be 8-bit");
-    ext = ".jpg";
-    params = {cv::IMWRITE_JPEG_QUALITY, options.jpeg_quality};
   } else if (image.depth() != CV_8U && image.depth() != CV_16U) {
     Fail(path, "PNG output must be 8 or 16-bit");
   }
-  std::vector<std::uint8_t> buf;
-  try {
-    if (!cv::imencode(ext, image, buf, params))
-      Fail(path, "cannot encode image");
-  } catch (const cv::Exception& e) {
-    Fail(path, "cannot encode image (" + e.err + ")");
-  }
-  return std::string(buf.begin(), buf.end());
+  return CodecModule::Shared().Encode(
+      path.string(), image,
+      format == OutFormat::kJpeg ? EncodedFormat::kJpeg : EncodedFormat::kPng,
+      options.jpeg_quality);
 }
 
 }  // namespace
@@ -148,8 +141,8 @@ std::string ImageWriteOptions::Check() const {
   return {};
 }
 
-void WriteImage(const fs::path& path, const cv::Mat& image,
-                const ImageWriteOptions& options) {
+std::string EncodeImage(const fs::path& path, const cv::Mat& image,
+                        const ImageWriteOptions& options) {
   const std::string problem = options.Check();
   if (!problem.empty()) Fail(path, problem);
   const OutFormat format = FormatFor(path);
@@ -163,10 +156,14 @@ void WriteImage(const fs::path& path, const cv::Mat& image,
     Fail(path, "unsupported channel count " + std::to_string(image.channels()) +
                    " (need 1 or 3)");
   }
-  const std::string bytes =
-      format == OutFormat::kTiff
-          ? EncodeTiff(path, image)
-          : EncodeWithOpenCv(path, image, format, options);
+  return format == OutFormat::kTiff
+             ? EncodeTiff(path, image)
+             : EncodeWithModule(path, image, format, options);
+}
+
+void WriteImage(const fs::path& path, const cv::Mat& image,
+                const ImageWriteOptions& options) {
+  const std::string bytes = EncodeImage(path, image, options);
   WriteFileAtomic(path, bytes,
                   options.overwrite ? Overwrite::kAllow : Overwrite::kRefuse);
 }

@@ -1,6 +1,7 @@
 // Writing images atomically: TIFF through libtiff (8/16-bit unsigned grey or
 // RGB, 32-bit float grey; deflate compression with a predictor; strips),
-// PNG/JPEG through OpenCV (8 or 16-bit, grey or BGR).
+// PNG/JPEG through OpenCV in the codec module, loaded on first use
+// (io/codec_module.h; 8 or 16-bit, grey or BGR).
 #pragma once
 
 #include <filesystem>
@@ -24,5 +25,11 @@ struct ImageWriteOptions {
 // Throws OutputError naming the file on failure; leaves no partial file.
 void WriteImage(const std::filesystem::path& path, const cv::Mat& image,
                 const ImageWriteOptions& options = {});
+
+// Encodes `image` as WriteImage would write it to `path` (format from its
+// extension, `path` named in messages) and returns the file bytes; writes
+// nothing. Throws OutputError.
+std::string EncodeImage(const std::filesystem::path& path, const cv::Mat& image,
+                        const ImageWriteOptions& options = {});
 
 }  // namespace figura

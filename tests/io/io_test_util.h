@@ -1,6 +1,7 @@
 // Helpers for the io tests: scratch folders, file bytes, a deterministic
 // sample pattern, a libtiff writer for test images in every layout the
-// loader accepts, and running Debian's /usr/bin/python3 as a reference.
+// loader accepts, a BMP writer, and running Debian's /usr/bin/python3 as a
+// reference.
 #pragma once
 
 #include <gtest/gtest.h>
@@ -15,6 +16,7 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <opencv2/core.hpp>
 #include <sstream>
 #include <string>
 #include <system_error>
@@ -237,6 +239,44 @@ inline double ExpectedGrey(const TiffSpec& spec, int x, int y) {
     return (spec.bits == 8 ? 255.0 : spec.bits == 16 ? 65535.0 : 1.0) - v;
   }
   return v;
+}
+
+// A 24-bit uncompressed BMP of `bgr` (CV_8UC3): BITMAPFILEHEADER (14 bytes)
+// and BITMAPINFOHEADER (40 bytes), rows bottom-up, each padded to a multiple
+// of 4 bytes, samples in B, G, R order [memory: Microsoft's BMP file format
+// documentation, BITMAPINFOHEADER]. Written here so that the io tests need
+// no encoder of the library under test.
+inline std::string EncodeTestBmp(const cv::Mat& bgr) {
+  const auto width = static_cast<std::uint32_t>(bgr.cols);
+  const auto height = static_cast<std::uint32_t>(bgr.rows);
+  const std::uint32_t row_bytes = (3 * width + 3) / 4 * 4;
+  const std::uint32_t pixel_bytes = row_bytes * height;
+  std::string out;
+  const auto put = [&out](std::uint32_t value, int bytes) {
+    for (int i = 0; i < bytes; ++i)
+      out.push_back(static_cast<char>((value >> (8 * i)) & 0xFF));
+  };
+  out += "BM";
+  put(14 + 40 + pixel_bytes, 4);  // file size
+  put(0, 4);                      // two reserved words
+  put(14 + 40, 4);                // offset of the pixels
+  put(40, 4);                     // BITMAPINFOHEADER size
+  put(width, 4);
+  put(height, 4);  // positive: bottom-up rows
+  put(1, 2);       // planes
+  put(24, 2);      // bits per pixel
+  put(0, 4);       // BI_RGB, no compression
+  put(pixel_bytes, 4);
+  put(2835, 4);  // 72 dpi in pixels per metre, both axes
+  put(2835, 4);
+  put(0, 4);  // colours used
+  put(0, 4);  // important colours
+  for (int y = bgr.rows - 1; y >= 0; --y) {
+    const std::size_t start = out.size();
+    out.append(reinterpret_cast<const char*>(bgr.ptr(y)), 3 * width);
+    out.resize(start + row_bytes, '\0');
+  }
+  return out;
 }
 
 // Runs a Python script with Debian's /usr/bin/python3 (not the one on PATH).
