@@ -10,11 +10,14 @@
 #include <sstream>
 #include <string>
 
+#include "check_record.h"
 #include "core/error.h"
 #include "optics/sphere.h"
 
 namespace figura {
 namespace {
+
+using figura::testing::CheckNear;
 
 RingFitOptions Options(double lambda_m) {
   RingFitOptions o;
@@ -31,7 +34,9 @@ TEST(RingDiameters, WalkerTwelfthDarkRing) {
       ParseRingDiameters("order,diameter,kind\n12,3.12cm,dark\n", "walker.csv");
   const RingFitResult fit = FitRingDiameters(rows, Options(648e-9));
   ASSERT_NE(fit.status, Status::kError);
-  EXPECT_NEAR(fit.radius_m, 31.3, 0.05);
+  CheckNear("R from the 12th dark ring at 648 nm",
+            "J. S. Walker, Physics (worked example)", 31.3, fit.radius_m, 0.05,
+            "m");
   EXPECT_FALSE(fit.has_uncertainty);  // one ring: e = 0 assumed, no u
   EXPECT_NE(fit.uncertainty_note.find("e = 0"), std::string::npos);
   EXPECT_EQ(fit.status, Status::kWarning);
@@ -44,7 +49,9 @@ TEST(RingDiameters, TenthDarkRing500nm) {
       ParseRingDiameters("order,diameter,kind\n10,5.00mm,dark\n", "t.csv");
   const RingFitResult fit = FitRingDiameters(rows, Options(500e-9));
   ASSERT_NE(fit.status, Status::kError);
-  EXPECT_NEAR(fit.radius_m, 1.25, 1e-5);
+  CheckNear("R from the 10th dark ring at 500 nm",
+            "textbook worked example (references.md)", 1.25, fit.radius_m, 1e-5,
+            "m");
 }
 
 TEST(RingDiameters, SodiumDifferenceMethod) {
@@ -58,7 +65,9 @@ TEST(RingDiameters, SodiumDifferenceMethod) {
       "sodium.csv");
   const RingFitResult fit = FitRingDiameters(rows, Options(589.3e-9));
   ASSERT_NE(fit.status, Status::kError);
-  EXPECT_NEAR(fit.radius_m * 1e3, 500.0, 0.05);
+  CheckNear("R by the difference method, sodium",
+            "textbook worked example (references.md)", 500.0,
+            fit.radius_m * 1e3, 0.05, "mm");
   const double diff =
       (4.134e-3 * 4.134e-3 - 2.303e-3 * 2.303e-3) / (4.0 * 10.0 * 589.3e-9);
   // The textbook difference method is paraxial; the exact sag differs by
@@ -130,7 +139,9 @@ TEST(RingDiameters, LiquidInTheGap) {
   RingFitOptions air = Options(589.3e-9);
   RingFitOptions liquid = air;
   liquid.stack.gap_index = LiquidIndexFromDiameters(14e-3, 12.7e-3);
-  EXPECT_NEAR(liquid.stack.gap_index, 1.215, 5e-4);
+  CheckNear("index of a liquid in the gap",
+            "textbook worked example (references.md)", 1.215,
+            liquid.stack.gap_index, 5e-4, "");
   const double r_air =
       FitRingDiameters(
           ParseRingDiameters("order,diameter,kind\n10,14mm,dark\n", "a.csv"),

@@ -4,6 +4,7 @@
 
 #include <numbers>
 
+#include "check_record.h"
 #include "core/error.h"
 
 namespace figura {
@@ -34,7 +35,10 @@ TEST(AnalyseLayers, CrownAirCrownDefaults) {
   // Transmitted visibility 2R/(1+R^2) for two equal surfaces (references.md
   // [derived]).
   const double rr = r.reflectance_upper;
-  EXPECT_NEAR(r.transmitted.rule.visibility, 2 * rr / (1 + rr * rr), 1e-12);
+  figura::testing::CheckNear(
+      "transmitted fringe visibility, n = 1.5168 on n = 1.5168",
+      "[derived] 2R/(1+R^2), references.md", 2 * rr / (1 + rr * rr),
+      r.transmitted.rule.visibility, 1e-12, "");
   ASSERT_EQ(r.reflected.minimum_gaps_m.size(), 5U);
   EXPECT_NEAR(r.reflected.minimum_gaps_m[2] * 1e9, 546.074,
               1e-9);  // k lambda / 2

@@ -8,10 +8,13 @@
 #include <numbers>
 #include <random>
 
+#include "check_record.h"
 #include "core/error.h"
 
 namespace figura {
 namespace {
+
+using figura::testing::CheckNear;
 
 constexpr double kMercuryE =
     546.074e-9;  // references.md: RP Photonics; ISO 7944
@@ -42,7 +45,9 @@ TEST(Fresnel, CrownGlassInAir) {
   EXPECT_NEAR(FresnelReflectance(1.5, 1.0), 0.04, 1e-12);
   // 4.22 % for n = 1.5168 (N-BK7) [derived from Fresnel, Hecht, Optics
   // sec. 4.6].
-  EXPECT_NEAR(FresnelReflectance(1.0, 1.5168), 0.0422, 5e-5);
+  CheckNear("Fresnel reflectance, n = 1.5168",
+            "[derived] Fresnel, Hecht, Optics", 0.0422,
+            FresnelReflectance(1.0, 1.5168), 5e-5, "");
   // Amplitudes (Hecht, Optics sec. 4.6): r = (n1-n2)/(n1+n2), t = 2 n1/(n1+n2);
   // at normal incidence t = 1 + r.
   EXPECT_NEAR(FresnelR(1.0, 1.5), -0.2, 1e-15);

@@ -5,18 +5,23 @@
 #include <cmath>
 #include <limits>
 
+#include "check_record.h"
 #include "core/error.h"
 #include "optics/media.h"
 
 namespace figura {
 namespace {
 
+using figura::testing::CheckNear;
+
 constexpr double kInf = std::numeric_limits<double>::infinity();
 
 TEST(SphereSag, WorkedValue) {
   // R = 100 mm, D = 50 mm: s = 100 - sqrt(100^2 - 25^2) = 3.1754 mm
   // (references.md [derived]).
-  EXPECT_NEAR(SphereSag(0.100, 0.025) * 1e3, 3.1754, 5e-5);
+  CheckNear("sag of R 100 mm over D 50 mm",
+            "[derived] s = R - sqrt(R^2 - D^2/4)", 3.1754,
+            SphereSag(0.100, 0.025) * 1e3, 5e-5, "mm");
   // Sign follows R (convex positive as seen from the gap).
   EXPECT_NEAR(SphereSag(-0.100, 0.025) * 1e3, -3.1754, 5e-5);
   // A hemisphere's sag is its radius [practice].
@@ -53,7 +58,9 @@ TEST(TestPlate, SaaymanExampleExactVersusSmallSag) {
   // 2.0317).
   const double lambda = 546.07e-9;
   const double dr = ApproxRadiusDifference(2.0, 0.100, 0.030, lambda);
-  EXPECT_NEAR(dr * 1e6, 48.5, 0.05);
+  CheckNear("test-plate dR for N = 2, D 30 mm, R 100 mm",
+            "Saayman, Tutorial on Test Plates (OPTI 515)", 48.5, dr * 1e6, 0.05,
+            "um");
   EXPECT_NEAR(FringesBetweenSpheres(0.100, 0.100 + dr, 0.030, lambda), 2.033,
               5e-4);
   EXPECT_NEAR(FringesBetweenSpheres(0.100, 0.100 + 48.5e-6, 0.030, lambda),

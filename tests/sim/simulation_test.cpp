@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "check_record.h"
 #include "core/error.h"
 #include "core/ini.h"
 #include "io/image.h"
@@ -116,6 +117,9 @@ TEST(Simulate, NewtonRingMinimaSitAtTheTextbookRadii) {
   }
   EXPECT_GT(checked, 90);
   EXPECT_LT(worst, 0.05) << "worst minimum offset (px)";
+  figura::testing::RecordCheck(
+      "rendered Newton-ring minima vs r_k^2 = k lambda R / n (worst)",
+      "Hecht, Optics, sec. 9.4 (references.md)", 0.0, worst, 0.05, "px");
   std::cout << "[ measured ] worst Newton-ring minimum offset " << worst
             << " px over " << checked << " minima\n";
   // The centre (contact) is dark in reflection for glass/air/glass
@@ -197,7 +201,10 @@ TEST(Simulate, TruthHoldsTheGapsKeyNumbers) {
         "power_fringes", "zernike", "half_wave_nm", "min_fringe_period_px"}) {
     EXPECT_TRUE(t.contains(k)) << k;
   }
-  EXPECT_NEAR(t["power_fringes"].get<double>(), 2.033, 0.001);
+  figura::testing::CheckNear(
+      "exact fringe count, R 100 mm vs 100.04854 mm over D 30 mm",
+      "[derived] references.md (exact sag)", 2.033,
+      t["power_fringes"].get<double>(), 0.001, "fringes");
   EXPECT_EQ(t["part_radius_mm"].get<double>(), 100.0);
   EXPECT_EQ(r.truth["seed"].get<int>(), 1);
   EXPECT_EQ(r.truth["settings"]["camera"]["bit_depth"].get<int>(), 16);

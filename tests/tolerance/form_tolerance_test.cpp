@@ -4,10 +4,13 @@
 
 #include <string>
 
+#include "check_record.h"
 #include "core/light_source.h"
 
 namespace figura {
 namespace {
+
+using figura::testing::CheckNear;
 
 const ToleranceLimit& L(const FormTolerance& t, FormCharacteristic c) {
   return t.LimitOf(c);
@@ -23,8 +26,9 @@ TEST(ParseFormTolerance, WorkedExampleFromTheStandardAbstract) {
   EXPECT_TRUE(L(t, FormCharacteristic::kPower).dash);
   ASSERT_TRUE(L(t, FormCharacteristic::kIrregularity).toleranced);
   EXPECT_DOUBLE_EQ(L(t, FormCharacteristic::kIrregularity).fringes, 1.0);
-  EXPECT_NEAR(L(t, FormCharacteristic::kIrregularity).nm, 273.0,
-              1e-12);  // DIN ISO 10110-5:2016
+  CheckNear("B of 3/-(1) at 546 nm",
+            "DIN ISO 10110-5:2016 abstract (fringe = lambda/2)", 273.0,
+            L(t, FormCharacteristic::kIrregularity).nm, 1e-12, "nm");
   EXPECT_FALSE(L(t, FormCharacteristic::kRsi).toleranced);
   EXPECT_EQ(t.text, "3/-(1); λ = 546 nm");
 }
