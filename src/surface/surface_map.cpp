@@ -146,7 +146,7 @@ void CarrierMap(const Image& image, const MapOptions& o, const cv::Mat& mask,
     c.regions = u.regions;
   }
   r->height_m = cv::Mat(mask.size(), CV_32FC1,
-                        cv::Scalar(std::numeric_limits<float>::quiet_NaN()));
+                        cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
   cv::Mat finite = (unwrapped == unwrapped);  // NaN != NaN
   cv::bitwise_and(valid, finite, valid);
   cv::Mat scaled;

@@ -150,7 +150,7 @@ std::vector<double> TruthOver(const figura::SimulationOptions& sim,
   const figura::GapModel model(sim.gap, sim.aperture_diameter_m / 2.0);
   const double p = sim.camera.pixel_pitch_m;
   cv::Mat h(sim.camera.height_px, sim.camera.width_px, CV_32FC1,
-            cv::Scalar(std::numeric_limits<float>::quiet_NaN()));
+            cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
   for (int y = 0; y < h.rows; y += 2) {  // every other row and column
     for (int x = 0; x < h.cols; x += 2) {
       if (std::hypot(x - circle.centre.x, y - circle.centre.y) > circle.radius)

@@ -130,7 +130,7 @@ Truth TruthOver(const SimulationOptions& sim, const MapResult& r) {
   const double p = sim.camera.pixel_pitch_m;
   Truth t;
   t.height_m = cv::Mat(r.height_m.size(), CV_32FC1,
-                       cv::Scalar(std::numeric_limits<float>::quiet_NaN()));
+                       cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
   const Circle& c = r.aperture_px;
   for (int y = 0; y < t.height_m.rows; ++y) {
     for (int x = 0; x < t.height_m.cols; ++x) {
@@ -193,8 +193,7 @@ TEST(SurfaceMap, CarrierPhotoMeetsTheAccuracyTargets) {
   std::cout << "carrier map: rms error " << rms_error * 1e9 << " nm, "
             << r.metrics.pixels << " valid pixels of " << t.metrics.pixels
             << ", B fit " << Fringes(r.metrics.irregularity_fit_m, kHeD)
-            << " truth " << Fringes(t.metrics.irregularity_fit_m, kHeD)
-            << "\n";
+            << " truth " << Fringes(t.metrics.irregularity_fit_m, kHeD) << "\n";
   EXPECT_LT(rms_error, 3e-9);
   EXPECT_NEAR(Fringes(r.metrics.power_m, kHeD),
               Fringes(t.metrics.power_m, kHeD), 0.05);
