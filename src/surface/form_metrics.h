@@ -19,7 +19,8 @@
 //   term of exact spheres is not absorbed. For a part of radius R_part
 //   against a reference of R_ref over aperture radius a it shows in B and C
 //   as k / 4 with k = (a^4 / 8)(1/R_part^3 - 1/R_ref^3) (4.6 nm for 100 mm
-//   against 100.5 mm over 20 mm; zero against a flat;
+//   against 100.5 mm over 20 mm; against a flat reference k = a^4 / (8
+//   R_part^3), negligible for near-flat parts;
 //   tests/surface/form_metrics_test.cpp). (A
 //   minimum-PV sphere would absorb part of Z(4,0); ISO 14999-4 names the
 //   least-squares sphere as its default evaluation [memory].)

@@ -24,8 +24,8 @@ namespace {
 namespace fs = std::filesystem;
 
 fs::path Scratch(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / "report" /
-                       (name + "-" + std::to_string(::getpid()));
+  fs::path dir = fs::path(FIGURA_TEST_TMP) / "report" /
+                 (name + "-" + std::to_string(::getpid()));
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
@@ -176,7 +176,8 @@ TEST(SurfacePicture, OnlyFiniteHeightsCount) {
       RenderSurfacePicture(with_inf, cv::Mat(), kAperture, 632.8e-9, "t");
   EXPECT_EQ(cv::norm(a, b, cv::NORM_INF), 0.0);
   // An all-NaN map still renders (grey map, no data line).
-  const cv::Mat empty(50, 50, CV_32FC1, cv::Scalar(std::nanf("")));
+  const cv::Mat empty(50, 50, CV_32FC1,
+                      cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
   EXPECT_NO_THROW(RenderSurfacePicture(empty, cv::Mat(), {{25, 25}, 20},
                                        632.8e-9, "nothing"));
 }

@@ -13,6 +13,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <limits>
 #include <random>
 #include <string>
 #include <vector>
@@ -220,6 +221,7 @@ TEST(ZernikeFit, TooFewSamples) {
 
 TEST(ZernikeFit, SamplesAlongALineAreSingular) {
   std::vector<SurfaceSample> line;
+  line.reserve(500);
   for (int i = 0; i < 500; ++i) {
     line.push_back({-1.0 + i / 250.0, 0.0, 1e-9 * i, 1.0});
   }
@@ -229,7 +231,8 @@ TEST(ZernikeFit, SamplesAlongALineAreSingular) {
   EXPECT_NE(fit.messages[0].find("singular"), std::string::npos)
       << fit.messages[0];
   // Same through the grid: a map valid on one row only.
-  cv::Mat map(101, 101, CV_32FC1, cv::Scalar(std::nanf("")));
+  cv::Mat map(101, 101, CV_32FC1,
+              cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
   map.row(50).setTo(1e-8);
   const ZernikeFitResult grid =
       FitZernikeGrid(map, {{50.0, 50.0}, 45.0}, {.max_order = 3});
