@@ -6,6 +6,7 @@
 #include <cmath>
 #include <complex>
 #include <cstdint>
+#include <cstdio>
 #include <limits>
 #include <numbers>
 #include <opencv2/core/utility.hpp>
@@ -80,16 +81,48 @@ void LocalMean(const cv::Mat& image, const cv::Mat& mask, double sigma_px,
                Prepared& p) {
   const int longer = std::max(image.cols, image.rows);
   const int q = std::max(1, longer / kMeanGridPx);
-  const cv::Size small(std::max(1, image.cols / q),
-                       std::max(1, image.rows / q));
-  cv::Mat m;
-  mask.convertTo(m, CV_32F, 1.0 / 255.0);
-  cv::Mat im = image.mul(m);
-  cv::Mat im2 = im.mul(image);
-  cv::Mat ms, is, is2;
-  cv::resize(m, ms, small, 0, 0, cv::INTER_AREA);
-  cv::resize(im, is, small, 0, 0, cv::INTER_AREA);
-  cv::resize(im2, is2, small, 0, 0, cv::INTER_AREA);
+  const int sw = (image.cols + q - 1) / q;
+  const int sh = (image.rows + q - 1) / q;
+  // Block sums of m, m I and m I^2 in one pass (m = mask / 255), as block
+  // means (partial edge blocks by their pixel count).
+  cv::Mat ms(sh, sw, CV_32FC1), is(sh, sw, CV_32FC1), is2(sh, sw, CV_32FC1);
+  cv::parallel_for_(cv::Range(0, sh), [&](const cv::Range& range) {
+    std::vector<double> a(static_cast<std::size_t>(sw)),
+        b(static_cast<std::size_t>(sw)), c(static_cast<std::size_t>(sw));
+    for (int by = range.start; by < range.end; ++by) {
+      std::fill(a.begin(), a.end(), 0.0);
+      std::fill(b.begin(), b.end(), 0.0);
+      std::fill(c.begin(), c.end(), 0.0);
+      const int y1 = std::min(image.rows, (by + 1) * q);
+      for (int y = by * q; y < y1; ++y) {
+        const float* src = image.ptr<float>(y);
+        const uint8_t* m = mask.ptr<uint8_t>(y);
+        for (int bx = 0; bx < sw; ++bx) {
+          const int x1 = std::min(image.cols, (bx + 1) * q);
+          float sa = 0.0F, sb = 0.0F, sc = 0.0F;
+          for (int x = bx * q; x < x1; ++x) {
+            if (m[x] == 0) continue;
+            sa += 1.0F;
+            sb += src[x];
+            sc += src[x] * src[x];
+          }
+          const auto k = static_cast<std::size_t>(bx);
+          a[k] += static_cast<double>(sa);
+          b[k] += static_cast<double>(sb);
+          c[k] += static_cast<double>(sc);
+        }
+      }
+      const int rows_in = y1 - by * q;
+      for (int bx = 0; bx < sw; ++bx) {
+        const int cols_in = std::min(image.cols, (bx + 1) * q) - bx * q;
+        const double n = static_cast<double>(rows_in) * cols_in;
+        const auto k = static_cast<std::size_t>(bx);
+        ms.at<float>(by, bx) = static_cast<float>(a[k] / n);
+        is.at<float>(by, bx) = static_cast<float>(b[k] / n);
+        is2.at<float>(by, bx) = static_cast<float>(c[k] / n);
+      }
+    }
+  });
   const double s = std::max(0.5, sigma_px / q);
   cv::GaussianBlur(ms, ms, cv::Size(), s, s, cv::BORDER_CONSTANT);
   cv::GaussianBlur(is, is, cv::Size(), s, s, cv::BORDER_CONSTANT);
@@ -100,7 +133,51 @@ void LocalMean(const cv::Mat& image, const cv::Mat& mask, double sigma_px,
   cv::divide(is2, w, second);
   cv::Mat var = cv::max(second - p.mean_small.mul(p.mean_small), 0.0);
   cv::sqrt(2.0 * var, p.amp_small);
-  p.mean_scale = static_cast<double>(image.cols) / small.width;
+  p.mean_scale = q;
+}
+
+// Column taps of a bilinear lookup into a reduced map whose block centres
+// lie at (i + 0.5) scale - 0.5 full-resolution pixels.
+struct ColumnTaps {
+  std::vector<int> x0, x1;
+  std::vector<float> fx;
+};
+ColumnTaps MakeColumnTaps(const cv::Mat& small, double scale, int cols) {
+  ColumnTaps t;
+  t.x0.resize(static_cast<std::size_t>(cols));
+  t.x1.resize(static_cast<std::size_t>(cols));
+  t.fx.resize(static_cast<std::size_t>(cols));
+  for (int x = 0; x < cols; ++x) {
+    const double u = std::clamp((x + 0.5) / scale - 0.5, 0.0,
+                                static_cast<double>(small.cols - 1));
+    const int x0 = std::min(static_cast<int>(u), std::max(0, small.cols - 2));
+    const auto k = static_cast<std::size_t>(x);
+    t.x0[k] = x0;
+    t.x1[k] = std::min(x0 + 1, small.cols - 1);
+    t.fx[k] = static_cast<float>(u - x0);
+  }
+  return t;
+}
+
+// Bilinear lookup of a reduced map along one full-resolution row.
+void SampleRow(const cv::Mat& small, double scale, const ColumnTaps& taps,
+               int y, std::vector<float>& out) {
+  const double v = std::clamp((y + 0.5) / scale - 0.5, 0.0,
+                              static_cast<double>(small.rows - 1));
+  const int y0 = std::min(static_cast<int>(v), std::max(0, small.rows - 2));
+  const int y1 = std::min(y0 + 1, small.rows - 1);
+  const auto fy = static_cast<float>(v - y0);
+  const float* r0 = small.ptr<float>(y0);
+  const float* r1 = small.ptr<float>(y1);
+  const std::size_t cols = taps.x0.size();
+  out.resize(cols);
+  for (std::size_t x = 0; x < cols; ++x) {
+    const int a = taps.x0[x];
+    const int b = taps.x1[x];
+    const float top = r0[a] + taps.fx[x] * (r0[b] - r0[a]);
+    const float bottom = r1[a] + taps.fx[x] * (r1[b] - r1[a]);
+    out[x] = top + fy * (bottom - top);
+  }
 }
 
 // Masked, local-mean-removed image, padded to an optimal DFT size, and its
@@ -127,8 +204,6 @@ Prepared Prepare(const cv::Mat& image_in, const cv::Mat& mask,
   if (p.mask_pixels < kMinMaskPixels) return p;
 
   LocalMean(image, mask, kMeanSigmaFraction * p.extent_px, p);
-  cv::Mat mean_full;
-  cv::resize(p.mean_small, mean_full, image.size(), 0, 0, cv::INTER_LINEAR);
 
   // Optimal sizes (a non-optimal size is catastrophically slow:
   // ../shared/libraries.md).
@@ -152,14 +227,18 @@ Prepared Prepare(const cv::Mat& image_in, const cv::Mat& mask,
   // (|I - mean| > 1.35 amplitudes; a cosine stays within 1), cleaned of
   // isolated noise pixels and grown by a few pixels. They leave the working
   // mask, so the extrapolation fills them like the outside [practice].
-  cv::Mat amp_full;
-  cv::resize(p.amp_small, amp_full, image.size(), 0, 0, cv::INTER_LINEAR);
+  const ColumnTaps mean_taps =
+      MakeColumnTaps(p.mean_small, p.mean_scale, p.width);
   cv::Mat dust = cv::Mat::zeros(image.size(), CV_8UC1);
   cv::parallel_for_(cv::Range(0, p.height), [&](const cv::Range& range) {
+    std::vector<float> mean_row, amp_row;
     for (int y = range.start; y < range.end; ++y) {
+      if (p.row_first[static_cast<std::size_t>(y)] < 0) continue;
+      SampleRow(p.mean_small, p.mean_scale, mean_taps, y, mean_row);
+      SampleRow(p.amp_small, p.mean_scale, mean_taps, y, amp_row);
+      const float* mean = mean_row.data();
+      const float* amp = amp_row.data();
       const float* src = image.ptr<float>(y);
-      const float* mean = mean_full.ptr<float>(y);
-      const float* amp = amp_full.ptr<float>(y);
       const uint8_t* m = mask.ptr<uint8_t>(y);
       uint8_t* d = dust.ptr<uint8_t>(y);
       for (int x = 0; x < p.width; ++x) {
@@ -174,9 +253,12 @@ Prepared Prepare(const cv::Mat& image_in, const cv::Mat& mask,
   p.work_mask = mask & ~dust;
   cv::Mat padded = cv::Mat::zeros(p.hp, p.wp, CV_32FC1);
   cv::parallel_for_(cv::Range(0, p.height), [&](const cv::Range& range) {
+    std::vector<float> mean_row;
     for (int y = range.start; y < range.end; ++y) {
+      if (p.row_first[static_cast<std::size_t>(y)] < 0) continue;
+      SampleRow(p.mean_small, p.mean_scale, mean_taps, y, mean_row);
+      const float* mean = mean_row.data();
       const float* src = image.ptr<float>(y);
-      const float* mean = mean_full.ptr<float>(y);
       const uint8_t* m = p.work_mask.ptr<uint8_t>(y);
       float* dst = padded.ptr<float>(y);
       for (int x = 0; x < p.width; ++x)
@@ -240,23 +322,52 @@ CarrierProbe ProbePrepared(const Prepared& p, Peak& peak) {
   const int hp = p.hp;
   // Strongest bin in the half-plane f_x > 0 (or f_x == 0, f_y > 0) outside
   // the DC lobe; total energy outside the DC lobe.
+  std::vector<float> fx2(static_cast<std::size_t>(wp));
+  for (int col = 0; col < wp; ++col) {
+    const double fx = static_cast<double>(Signed(col, wp)) / wp;
+    fx2[static_cast<std::size_t>(col)] = static_cast<float>(fx * fx);
+  }
+  std::vector<double> row_total(static_cast<std::size_t>(hp), 0.0);
+  std::vector<float> row_best(static_cast<std::size_t>(hp), -1.0F);
+  std::vector<int> row_col(static_cast<std::size_t>(hp), -1);
+  const auto rdc2 = static_cast<float>(r_dc * r_dc);
+  const int half = wp / 2;
+  cv::parallel_for_(cv::Range(0, hp), [&](const cv::Range& range) {
+    for (int row = range.start; row < range.end; ++row) {
+      const int ky = Signed(row, hp);
+      const double fyd = static_cast<double>(ky) / hp;
+      const auto fy2 = static_cast<float>(fyd * fyd);
+      const auto* sp = p.spectrum.ptr<float>(row);
+      double acc = 0.0;
+      float best_e = -1.0F;
+      int best_c = -1;
+      const int first = ky > 0 ? 0 : 1;  // f_x == 0 only for f_y > 0
+      for (int col = 0; col < wp; ++col) {
+        if (fx2[static_cast<std::size_t>(col)] + fy2 < rdc2) continue;
+        const float re = sp[2 * col];
+        const float im = sp[2 * col + 1];
+        const float e = re * re + im * im;
+        acc += static_cast<double>(e);
+        if (col >= first && col <= half && e > best_e) {
+          best_e = e;
+          best_c = col;
+        }
+      }
+      const auto k = static_cast<std::size_t>(row);
+      row_total[k] = acc;
+      row_best[k] = best_e;
+      row_col[k] = best_c;
+    }
+  });
   double best = -1.0;
   double total = 0.0;
   for (int row = 0; row < hp; ++row) {
-    const int ky = Signed(row, hp);
-    const double fy = static_cast<double>(ky) / hp;
-    const auto* s = p.spectrum.ptr<cv::Vec2f>(row);
-    for (int col = 0; col < wp; ++col) {
-      const int kx = Signed(col, wp);
-      const double fx = static_cast<double>(kx) / wp;
-      if (fx * fx + fy * fy < r_dc * r_dc) continue;
-      const double e = Energy(s[col]);
-      total += e;
-      if ((kx > 0 || (kx == 0 && ky > 0)) && e > best) {
-        best = e;
-        peak.kx = kx;
-        peak.ky = ky;
-      }
+    const auto k = static_cast<std::size_t>(row);
+    total += row_total[k];
+    if (row_col[k] >= 0 && static_cast<double>(row_best[k]) > best) {
+      best = static_cast<double>(row_best[k]);
+      peak.kx = Signed(row_col[k], wp);
+      peak.ky = Signed(row, hp);
     }
   }
   total *= 0.5;  // one half-plane (Hermitian spectrum of a real image)
@@ -718,8 +829,6 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
       float* mo = result.modulation.ptr<float>(y);
       uint8_t* va = result.valid.ptr<uint8_t>(y);
       uint8_t* bad = result.unreliable.ptr<uint8_t>(y);
-      const auto& ry = ty.idx[ky];
-      const auto& wy = ty.w[ky];
       const int y0 = ty.i0[ky];
       const int y1 = std::min(y0 + 1, hr - 1);
       const float fy = ty.frac[ky];
@@ -733,29 +842,20 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
           continue;
         }
         const auto kx = static_cast<std::size_t>(x);
-        const auto& rx = tx.idx[kx];
-        const auto& wx = tx.w[kx];
-        float acc = 0.0F;
-        bool ok = true;
-        for (std::size_t j = 0; j < 4 && ok; ++j) {
-          const float* row = uph.ptr<float>(ry[j]);
-          float racc = 0.0F;
-          for (std::size_t i = 0; i < 4; ++i) {
-            const float v = row[rx[i]];
-            if (std::isnan(v)) {
-              ok = false;
-              break;
-            }
-            racc += wx[i] * v;
-          }
-          acc += wy[j] * racc;
-        }
         const int x0 = tx.i0[kx];
         const int x1 = std::min(x0 + 1, wr - 1);
         const float fx = tx.frac[kx];
-        if (!ok) {
-          const float v = uph.at<float>(yn, tx.nearest[kx]);
-          acc = v;  // NaN when even the nearest sample is outside
+        // Bilinear: the phase is smooth on the reduced grid (a few full
+        // pixels per sample), so the interpolation error is negligible
+        // against the band limit [practice].
+        const float p00 = uph.at<float>(y0, x0);
+        const float p01 = uph.at<float>(y0, x1);
+        const float p10 = uph.at<float>(y1, x0);
+        const float p11 = uph.at<float>(y1, x1);
+        float acc = (1 - fy) * ((1 - fx) * p00 + fx * p01) +
+                    fy * ((1 - fx) * p10 + fx * p11);
+        if (std::isnan(acc)) {
+          acc = uph.at<float>(yn, tx.nearest[kx]);  // NaN if outside too
         }
         const float mod =
             (1 - fy) * ((1 - fx) * modulation_r.at<float>(y0, x0) +

@@ -22,9 +22,9 @@ struct UnwrapResult {
   cv::Mat unreliable;
   // Fraction of the mask's pixels marked unreliable.
   double unreliable_fraction = 0.0;
-  // Number of separately unwrapped pieces (4-connected components of the
-  // mask, plus pixels merged only through diagonal neighbours count as
-  // joined). 0 for an empty mask.
+  // Number of separately unwrapped pieces: the 4-connected components of
+  // the valid pixels (only horizontal and vertical neighbours are joined).
+  // 0 for an empty mask.
   int regions = 0;
 };
 
