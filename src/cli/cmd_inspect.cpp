@@ -62,7 +62,9 @@ void PrintOutcome(const LotResult& r, const std::filesystem::path& out) {
             << c.total << " of " << r.summary.inputs_total << " inputs, "
             << c.pass << " pass, " << c.fail << " fail, " << c.indeterminate
             << " indeterminate, " << c.error << " error -> "
-            << r.summary.Verdict() << "\n"
+            << (r.summary.interrupted ? std::string("interrupted")
+                                      : r.summary.Verdict())
+            << "\n"
             << "summary: " << (out / "summary.csv").string() << ", "
             << (out / "summary.json").string() << ", "
             << (out / "index.html").string() << "\n";
