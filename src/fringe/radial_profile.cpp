@@ -72,6 +72,7 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
   if (y_end <= y_begin) return out;
   const double sector_width = 2.0 * std::numbers::pi / sectors;
   const double inverse_bin = 1.0 / bin_width_px2;
+  const double inverse_sector = 1.0 / sector_width;
   std::mutex merge;
   const int stripes = std::clamp(cv::getNumThreads(), 1, 8);
   // Parallel over the used rows y_begin + i * row_step.
@@ -104,8 +105,8 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
             if (sectors > 1) {
               double angle = FastAtan2(dy, dx) + 0.5 * sector_width;
               if (angle < 0.0) angle += 2.0 * std::numbers::pi;
-              sector =
-                  std::min(static_cast<int>(angle / sector_width), sectors - 1);
+              sector = std::min(static_cast<int>(angle * inverse_sector),
+                                sectors - 1);
               offset = angle - (sector + 0.5) * sector_width;
             }
             const std::size_t i =
