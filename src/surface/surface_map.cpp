@@ -360,23 +360,10 @@ MapResult AnalyseMap(const Image& image, const MapOptions& options) {
   }
   // Mode.
   MapMode mode = options.mode;
-  std::string carrier_reason;
+  CarrierProbe probe;
   if (mode == MapMode::kAuto) {
-    const CarrierProbe probe = ProbeCarrier(px, mask);
-    if (probe.found) {
-      mode = MapMode::kCarrier;
-    } else if (probe.aliased) {
-      r.status = Status::kError;
-      r.messages.push_back("aliased fringes: " +
-                           (probe.reason.empty()
-                                ? std::string("the carrier period is too short")
-                                : probe.reason) +
-                           " (use a finer pixel pitch or less tilt)");
-      return r;
-    } else {
-      mode = MapMode::kClosed;
-      carrier_reason = probe.reason;
-    }
+    probe = ProbeCarrier(px, mask);
+    mode = probe.found ? MapMode::kCarrier : MapMode::kClosed;
   }
   r.mode = mode;
   r.sign_assumption = SignText(options, mode);
@@ -385,11 +372,22 @@ MapResult AnalyseMap(const Image& image, const MapOptions& options) {
   } else {
     ClosedMap(image, options, mask, clear, &r);
     if (r.status == Status::kError && options.mode == MapMode::kAuto) {
-      r.messages.insert(r.messages.begin(),
-                        "no fringes to map: no carrier (" +
-                            (carrier_reason.empty() ? std::string("none found")
-                                                    : carrier_reason) +
-                            ") and no closed fringes");
+      // Neither method found fringes: say why the carrier was refused too.
+      const std::string why =
+          probe.reason.empty() ? std::string("none found") : probe.reason;
+      if (probe.aliased && probe.peak_ratio >= 0.5) {
+        r.messages.insert(r.messages.begin(),
+                          "aliased fringes: " + why +
+                              " (use a finer pixel pitch or less tilt)");
+      } else {
+        r.messages.insert(
+            r.messages.begin(),
+            "no fringes to map: no carrier (" + why +
+                ") and no closed fringes" +
+                (probe.aliased ? "; the strongest spectral peak lies near "
+                                 "the sampling limit (aliased fringes?)"
+                               : ""));
+      }
     }
   }
   if (r.status == Status::kError) return r;
