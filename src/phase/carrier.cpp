@@ -337,15 +337,15 @@ CarrierProbe ProbePrepared(const Prepared& p, Peak& peak) {
       const int ky = Signed(row, hp);
       const double fyd = static_cast<double>(ky) / hp;
       const auto fy2 = static_cast<float>(fyd * fyd);
-      const auto* sp = p.spectrum.ptr<float>(row);
+      const auto* sp = p.spectrum.ptr<cv::Vec2f>(row);
       double acc = 0.0;
       float best_e = -1.0F;
       int best_c = -1;
       const int first = ky > 0 ? 0 : 1;  // f_x == 0 only for f_y > 0
       for (int col = 0; col < wp; ++col) {
         if (fx2[static_cast<std::size_t>(col)] + fy2 < rdc2) continue;
-        const float re = sp[2 * col];
-        const float im = sp[2 * col + 1];
+        const float re = sp[col][0];
+        const float im = sp[col][1];
         const float e = re * re + im * im;
         acc += static_cast<double>(e);
         if (col >= first && col <= half && e > best_e) {
@@ -459,20 +459,8 @@ inline float Tukey(double d, double r) {
                                                   (1.0 - kFlatFraction))));
 }
 
-// Catmull-Rom weights for fractional offset t in [0, 1).
-inline std::array<float, 4> CubicWeights(double t) {
-  const double t2 = t * t;
-  const double t3 = t2 * t;
-  return {static_cast<float>(0.5 * (-t3 + 2 * t2 - t)),
-          static_cast<float>(0.5 * (3 * t3 - 5 * t2 + 2)),
-          static_cast<float>(0.5 * (-3 * t3 + 4 * t2 + t)),
-          static_cast<float>(0.5 * (t3 - t2))};
-}
-
 struct Taps {
-  std::vector<int> i0;  // first of four indices (clamped individually)
-  std::vector<std::array<int, 4>> idx;
-  std::vector<std::array<float, 4>> w;
+  std::vector<int> i0;  // lower bilinear index
   std::vector<int> nearest;
   std::vector<float> frac;  // for bilinear
 };
@@ -480,8 +468,6 @@ struct Taps {
 // Taps mapping full-resolution index i to reduced coordinate i / scale.
 Taps MakeTaps(int full, int reduced, double scale) {
   Taps t;
-  t.idx.resize(static_cast<std::size_t>(full));
-  t.w.resize(static_cast<std::size_t>(full));
   t.nearest.resize(static_cast<std::size_t>(full));
   t.frac.resize(static_cast<std::size_t>(full));
   t.i0.resize(static_cast<std::size_t>(full));
@@ -490,10 +476,6 @@ Taps MakeTaps(int full, int reduced, double scale) {
     const int b = static_cast<int>(std::floor(u));
     const auto k = static_cast<std::size_t>(i);
     t.i0[k] = std::clamp(b, 0, reduced - 1);
-    for (int j = 0; j < 4; ++j)
-      t.idx[k][static_cast<std::size_t>(j)] =
-          std::clamp(b - 1 + j, 0, reduced - 1);
-    t.w[k] = CubicWeights(u - b);
     t.nearest[k] = std::clamp(static_cast<int>(std::lround(u)), 0, reduced - 1);
     t.frac[k] = static_cast<float>(u - b);
   }
@@ -807,9 +789,9 @@ CarrierResult DemodulateCarrier(const cv::Mat& image, const cv::Mat& mask,
   const auto threshold =
       static_cast<float>(options.min_relative_modulation) * median;
 
-  // Back to full resolution: Catmull-Rom for the phase (bilinear or nearest
-  // where a tap is outside the unwrapped region), bilinear modulation,
-  // nearest-sample unreliability.
+  // Back to full resolution: bilinear phase (nearest sample where a tap is
+  // outside the unwrapped region) and modulation, nearest-sample
+  // unreliability.
   const Taps tx = MakeTaps(p.width, wr, sx);
   const Taps ty = MakeTaps(p.height, hr, sy);
   const float nan = std::numeric_limits<float>::quiet_NaN();

@@ -132,7 +132,7 @@ UnwrapResult UnwrapPhase(const cv::Mat& wrapped, const cv::Mat& mask) {
   // where a neighbour of the 3x3 block is missing. Unreliable flags from
   // large second differences and residues.
   cv::Mat key(rows, cols, CV_32FC1,
-              cv::Scalar(std::numeric_limits<float>::infinity()));
+              cv::Scalar(std::numeric_limits<double>::infinity()));
   cv::Mat unreliable = cv::Mat::zeros(rows, cols, CV_8UC1);
   constexpr float kLargeSecond = 0.5F * kPiF;
   cv::parallel_for_(
