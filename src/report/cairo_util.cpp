@@ -74,9 +74,10 @@ CairoSurface SurfaceFromMat(const cv::Mat& image) {
     auto* dst = reinterpret_cast<std::uint32_t*>(
         data + static_cast<std::ptrdiff_t>(y) * stride);
     for (int x = 0; x < bgr.cols; ++x) {
-      const std::uint32_t b = src[3 * x];
-      const std::uint32_t g = src[3 * x + 1];
-      const std::uint32_t r = src[3 * x + 2];
+      const std::uint8_t* bgr_px = src + static_cast<std::ptrdiff_t>(3) * x;
+      const std::uint32_t b = bgr_px[0];
+      const std::uint32_t g = bgr_px[1];
+      const std::uint32_t r = bgr_px[2];
       dst[x] = 0xFF000000U | (r << 16U) | (g << 8U) | b;  // native-endian xRGB
     }
   }

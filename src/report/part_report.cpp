@@ -139,7 +139,7 @@ void Show(cairo_t* cr, double x, double y, const std::string& s, double max_w,
 std::string WithEllipsis(cairo_t* cr, const std::string& line, double max_w) {
   const std::vector<std::size_t> cuts = CharBoundaries(line);
   for (std::size_t k = cuts.size(); k-- > 0;) {
-    const std::string t = line.substr(0, cuts[k]) + "\u2026";
+    std::string t = line.substr(0, cuts[k]) + "\u2026";
     if (Width(cr, t) <= max_w) return t;
   }
   return "\u2026";
@@ -163,9 +163,13 @@ std::vector<std::string> Wrap(cairo_t* cr, const std::string& s, double max_w,
       ++end;
     }
     std::size_t brk = end;
-    if (end + 1 < cuts.size()) {  // not the end of the text: prefer a space
-      for (std::size_t k = end; k > start + 1; --k) {
-        if (s[cuts[k]] == ' ') {
+    if (end + 1 < cuts.size()) {
+      // Not the end of the text: break before a space or after a slash
+      // (paths) when that keeps the line at least half full; else inside
+      // the word.
+      for (std::size_t k = end; k > start + 1 && 2 * (k - start) >= end - start;
+           --k) {
+        if (s[cuts[k]] == ' ' || s[cuts[k] - 1] == '/') {
           brk = k;
           break;
         }
@@ -538,6 +542,7 @@ double MarginTable(cairo_t* cr, double y, const nlohmann::json& r) {
                          "U95 (nm)",       "margin (nm)", "guarded (nm)",
                          "margin (fr)",    "verdict"};
   std::vector<Cell> head;
+  head.reserve(8);
   for (int i = 0; i < 8; ++i)
     head.push_back({heads[i], xs[i], ws[i], i > 0 && i < 7});
   Row(cr, y, head);
@@ -606,12 +611,23 @@ double Notes(cairo_t* cr, double y, const nlohmann::json& r) {
   y = Section(cr, y, "Notes");
   SetFont(cr, {7.5, false});
   int lines = 0;
+  std::size_t shown = 0;
   for (const std::string& n : notes) {
     if (lines >= 5) break;
+    ++shown;
     const double before = y;
     y = Paragraph(cr, kMargin, y, "\u2022 " + n, kContentW,
                   std::min(2, 5 - lines), 9.0);
     lines += static_cast<int>(std::lround((y - before) / 9.0));
+  }
+  if (shown < notes.size()) {
+    Grey(cr, 0.3);
+    Show(cr, kMargin, y,
+         "\u2026 " + std::to_string(notes.size() - shown) +
+             " more notes in the result JSON",
+         kContentW);
+    Grey(cr, 0.0);
+    y += 9.0;
   }
   return y + 3.0;
 }
@@ -717,14 +733,25 @@ void Settings(cairo_t* cr, double y, double y_end, const nlohmann::json& r) {
 void Input(cairo_t* cr, double y, const nlohmann::json& r) {
   y = Section(cr, y, "Input");
   SetFont(cr, {7.0, false});
-  std::string facts = Text(r, {"input", "width"}) + " \u00D7 " +
-                      Text(r, {"input", "height"}) + " px, " +
-                      Text(r, {"input", "bit_depth"}) + "-bit " +
-                      Text(r, {"input", "format"});
   y = Paragraph(cr, kMargin, y, "File: " + Text(r, {"input", "path"}),
                 kContentW, 2, 8.5);
-  Show(cr, kMargin, y, facts, kContentW);
-  y += 8.5;
+  // Size, depth and format, where known.
+  std::string facts;
+  if (Number(r, {"input", "width"}) && Number(r, {"input", "height"})) {
+    facts = Text(r, {"input", "width"}) + " \u00D7 " +
+            Text(r, {"input", "height"}) + " px";
+  }
+  if (Number(r, {"input", "bit_depth"})) {
+    facts += (facts.empty() ? "" : ", ") + Text(r, {"input", "bit_depth"}) +
+             " bits per sample";
+  }
+  if (Find(r, {"input", "format"}) != nullptr) {
+    facts += (facts.empty() ? "" : ", ") + Text(r, {"input", "format"});
+  }
+  if (!facts.empty()) {
+    Show(cr, kMargin, y, facts, kContentW);
+    y += 8.5;
+  }
   SetFont(cr, {7.0, false, true});
   Show(cr, kMargin, y, "SHA-256: " + Text(r, {"input", "sha256"}), kContentW);
 }
@@ -816,7 +843,7 @@ std::string PartVerdictWord(const nlohmann::json& part_result) {
   }
   const nlohmann::json* v = Find(part_result, {"conformance", "verdict"});
   if (v != nullptr && v->is_string()) {
-    const std::string s = v->get<std::string>();
+    std::string s = v->get<std::string>();
     if (s == "pass" || s == "fail" || s == "indeterminate") return s;
   }
   if (!part_result.is_object()) return "error";

@@ -414,6 +414,12 @@ TEST(PartReport, HostileStringsStayOnThePage) {
   EXPECT_NE(text.find("bad \uFFFD\uFFFD x y"), std::string::npos) << text;
   EXPECT_NE(text.find("more settings in the result JSON"), std::string::npos)
       << text;
+  EXPECT_NE(text.find("more notes in the result JSON"), std::string::npos)
+      << text;
+  // The long path is broken after a slash, on the same line as its label.
+  EXPECT_NE(text.find("File: photos/very_long_folder_name_0/"),
+            std::string::npos)
+      << text;
   EXPECT_FALSE(Render(pdf, 30).empty());
   ExpectWordsOnPage(pdf);
 }
