@@ -279,7 +279,7 @@ JobOptions ParseJob(const IniFile& ini, const std::filesystem::path& base_dir) {
   SettingMap s = SettingMap::FromIni(ini);
   JobOptions job;
   job.path = ini.origin();
-  const std::string file = ini.origin();
+  const std::string& file = ini.origin();
   if (auto v = s.Take("analysis")) {
     const std::string a(Trim(*v));
     if (a == "rings") {
