@@ -78,6 +78,7 @@ cv::Mat SmoothPhase(int rows, int cols, unsigned seed) {
     double x, y, s, a;
   };
   std::vector<Bump> bumps;
+  bumps.reserve(6);
   for (int i = 0; i < 6; ++i) {
     bumps.push_back({u(rng) * cols, u(rng) * rows, (0.1 + 0.2 * u(rng)) * cols,
                      (u(rng) - 0.5) * 40.0});
@@ -103,8 +104,8 @@ int RunPython(const fs::path& script) {
 }
 
 fs::path Scratch(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / "phase" /
-                       (name + "-" + std::to_string(::getpid()));
+  fs::path dir = fs::path(FIGURA_TEST_TMP) / "phase" /
+                 (name + "-" + std::to_string(::getpid()));
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
