@@ -522,7 +522,7 @@ std::string MapSummary(const MapResult& r, const MapOptions& o,
   if (r.status != Status::kError) {
     const double lambda = o.wavelength.value.metres;
     auto line = [&](const char* label, double metres) {
-      out << "  " << label << Fixed(metres * 1e9, 1) << " nm  "
+      out << "  " << label << " " << Fixed(metres * 1e9, 1) << " nm  "
           << Fixed(MetresToFringes(metres, lambda), 3) << " fringes  "
           << Fixed(MetresToWaves(metres, lambda), 3) << " waves\n";
     };
