@@ -1,8 +1,7 @@
 // The image codec module (io/codec_module.h): PNG, JPEG and BMP still round
 // trip through it; reading a TIFF does not load it (nor OpenCV's imgcodecs);
 // in-memory encode/decode and 8-bit pictures; a missing or broken module
-// gives one line naming the file and the folders
-// looked in.
+// gives one line naming the file and the folders looked in.
 #include "io/codec_module.h"
 
 #include <gtest/gtest.h>
