@@ -24,30 +24,6 @@ namespace {
 
 constexpr const char* kUsage = "IMAGE... --wavelength W [options]";
 
-// "X,Y" in pixels. (The same parsing as `figura rings`; to move to
-// cli/options.h.)
-cv::Point2d ParsePixelPoint(const std::string& text, const std::string& what) {
-  const std::size_t comma = text.find(',');
-  if (comma == std::string::npos) {
-    throw InputError(what + ": '" + text +
-                     "' must be X,Y in pixels, e.g. 512.5,384");
-  }
-  return {ParseNumber(text.substr(0, comma), what),
-          ParseNumber(text.substr(comma + 1), what)};
-}
-
-// Output path for input number i of n: the path itself for one input,
-// "<stem>-<input stem><ext>" for several. (As in `figura rings`; to move to
-// cli/options.h.)
-std::filesystem::path OutputFor(const std::string& path,
-                                const std::string& input, int n) {
-  if (n <= 1) return path;
-  const std::filesystem::path p(path);
-  return p.parent_path() / (p.stem().string() + "-" +
-                            std::filesystem::path(input).stem().string() +
-                            p.extension().string());
-}
-
 // The height map in nm as float, NaN outside the valid area.
 cv::Mat HeightNm(const MapResult& r) {
   cv::Mat nm;
@@ -115,7 +91,7 @@ int Run(const std::vector<std::string>& args) {
   }
   if (!aperture_centre.empty()) {
     options.aperture_centre_px =
-        ParsePixelPoint(aperture_centre, "--aperture-centre");
+        ToPoint(ParsePixelPoint(aperture_centre, "--aperture-centre"));
   }
   if (!aperture_diameter.empty()) {
     const std::string_view t = Trim(aperture_diameter);
@@ -164,7 +140,7 @@ int Run(const std::vector<std::string>& args) {
       continue;
     }
     if (!height_path.empty()) {
-      WriteImage(OutputFor(height_path, path, n), HeightNm(result));
+      WriteImage(PerInputPath(height_path, path, n), HeightNm(result));
     }
     if (!picture_path.empty()) {
       SurfacePictureOptions po_picture;
@@ -173,7 +149,7 @@ int Run(const std::vector<std::string>& args) {
       const std::string title =
           std::filesystem::path(path).filename().string() + " - gap map (" +
           MapModeName(result.mode) + " fringes), piston and tilt removed";
-      WriteSurfacePicture(OutputFor(picture_path, path, n), result.height_m,
+      WriteSurfacePicture(PerInputPath(picture_path, path, n), result.height_m,
                           result.unreliable, result.aperture_px,
                           options.wavelength.value.metres, title, po_picture);
     }

@@ -27,28 +27,6 @@ constexpr const char* kUsage =
     "IMAGE... --wavelength W --pixel-pitch P [options]\n"
     "       figura rings --diameters FILE --wavelength W [options]";
 
-// "X,Y" in pixels.
-cv::Point2d ParsePoint(const std::string& text, const std::string& what) {
-  const std::size_t comma = text.find(',');
-  if (comma == std::string::npos) {
-    throw InputError(what + ": '" + text +
-                     "' must be X,Y in pixels, e.g. 512.5,384");
-  }
-  return {ParseNumber(text.substr(0, comma), what),
-          ParseNumber(text.substr(comma + 1), what)};
-}
-
-// Output path for input number i of n: the path itself for one input,
-// "<stem>-<input stem><ext>" for several.
-std::filesystem::path PerInput(const std::string& path,
-                               const std::string& input, int n) {
-  if (n <= 1) return path;
-  const std::filesystem::path p(path);
-  return p.parent_path() / (p.stem().string() + "-" +
-                            std::filesystem::path(input).stem().string() +
-                            p.extension().string());
-}
-
 int Run(const std::vector<std::string>& args) {
   po::options_description desc("rings options");
   RingsOptions options;
@@ -125,7 +103,7 @@ int Run(const std::vector<std::string>& args) {
   }
   if (!aperture_centre.empty()) {
     options.detection.aperture_centre_px =
-        ParsePoint(aperture_centre, "--aperture-centre");
+        ToPoint(ParsePixelPoint(aperture_centre, "--aperture-centre"));
   }
   if (!aperture_diameter.empty()) {
     const std::string_view t = Trim(aperture_diameter);
@@ -201,9 +179,9 @@ int Run(const std::vector<std::string>& args) {
     out << RingsSummary(result, path);
     all.push_back(RingsJson(result, options, InputJson(image.info)));
     if (!overlay_path.empty())
-      WriteRingOverlay(PerInput(overlay_path, path, n), image, result);
+      WriteRingOverlay(PerInputPath(overlay_path, path, n), image, result);
     if (!plot_path.empty() && result.status != Status::kError) {
-      WriteRingPlot(PerInput(plot_path, path, n), result, fit);
+      WriteRingPlot(PerInputPath(plot_path, path, n), result, fit);
     }
     if (result.status == Status::kError) {
       std::cerr << "figura rings: error: " << path << ": "

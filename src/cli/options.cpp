@@ -108,4 +108,13 @@ bool ParseCommand(const std::string& command, const std::string& usage,
   return true;
 }
 
+std::filesystem::path PerInputPath(const std::string& path,
+                                   const std::string& input, int n) {
+  if (n <= 1) return path;
+  const std::filesystem::path p(path);
+  return p.parent_path() / (p.stem().string() + "-" +
+                            std::filesystem::path(input).stem().string() +
+                            p.extension().string());
+}
+
 }  // namespace figura::cli

@@ -3,7 +3,10 @@
 // (INI, the same names as the long options; the command line wins).
 #pragma once
 
+#include <array>
+#include <filesystem>
 #include <iosfwd>
+#include <opencv2/core.hpp>
 #include <string>
 #include <vector>
 
@@ -48,5 +51,15 @@ bool ParseCommand(const std::string& command, const std::string& usage,
                   po::options_description& desc,
                   const po::positional_options_description& positional,
                   po::variables_map* vm, std::ostream& out);
+
+// Output path for input `input` when `n` inputs are analysed: the path
+// itself for one input, "<stem>-<input stem><ext>" beside it for several.
+std::filesystem::path PerInputPath(const std::string& path,
+                                   const std::string& input, int n);
+
+// A pixel position from ParsePixelPoint (core/quantity.h).
+inline cv::Point2d ToPoint(const std::array<double, 2>& p) {
+  return {p[0], p[1]};
+}
 
 }  // namespace figura::cli

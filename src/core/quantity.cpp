@@ -114,4 +114,15 @@ std::string FormatLength(Length length, int digits) {
   return buf.data();
 }
 
+std::array<double, 2> ParsePixelPoint(std::string_view text,
+                                      std::string_view what) {
+  const std::size_t comma = text.find(',');
+  if (comma == std::string_view::npos) {
+    throw InputError(std::string(what) + ": '" + std::string(text) +
+                     "' must be X,Y in pixels, e.g. 512.5,384");
+  }
+  return {ParseNumber(text.substr(0, comma), what),
+          ParseNumber(text.substr(comma + 1), what)};
+}
+
 }  // namespace figura

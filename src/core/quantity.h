@@ -3,6 +3,7 @@
 // expected is an error naming the accepted units.
 #pragma once
 
+#include <array>
 #include <string>
 #include <string_view>
 
@@ -39,6 +40,11 @@ Length ParseLength(std::string_view text, std::string_view what = {});
 // Parses a plain finite number (no unit), e.g. a refractive index. Throws
 // InputError naming `what` on anything else.
 double ParseNumber(std::string_view text, std::string_view what = {});
+
+// A pixel position "X,Y" (two numbers, a comma between), e.g. "512.5,384".
+// Throws InputError naming `what` when the text is not of that form.
+std::array<double, 2> ParsePixelPoint(std::string_view text,
+                                      std::string_view what);
 
 // Formats a length in the unit that reads best for the bench ("589.2938 nm",
 // "8 um", "100 mm", "1.2 m"), with up to `digits` significant digits.

@@ -14,16 +14,7 @@
 namespace figura {
 namespace {
 
-// "X,Y" in pixels.
-cv::Point2d ParsePoint(const std::string& text, const std::string& what) {
-  const std::size_t comma = text.find(',');
-  if (comma == std::string::npos) {
-    throw InputError(what + ": '" + text +
-                     "' must be X,Y in pixels, e.g. 512.5,384");
-  }
-  return {ParseNumber(text.substr(0, comma), what),
-          ParseNumber(text.substr(comma + 1), what)};
-}
+cv::Point2d ToPoint(const std::array<double, 2>& p) { return {p[0], p[1]}; }
 
 int ParseInt(const std::string& text, const std::string& what) {
   const double v = ParseNumber(text, what);
@@ -155,7 +146,7 @@ RingsOptions RingsOptionsFromSettings(SettingMap& s) {
   }
   if (auto v = s.Take("aperture-centre")) {
     options.detection.aperture_centre_px =
-        ParsePoint(*v, what("aperture-centre"));
+        ToPoint(ParsePixelPoint(*v, what("aperture-centre")));
   }
   if (auto v = s.Take("aperture-diameter")) {
     // Pixels as a bare number, or a length (as `figura rings`).
@@ -232,7 +223,8 @@ MapOptions MapOptionsFromSettings(SettingMap& s) {
     options.aperture_fraction = ParseNumber(*v, what("aperture-fraction"));
   }
   if (auto v = s.Take("aperture-centre")) {
-    options.aperture_centre_px = ParsePoint(*v, what("aperture-centre"));
+    options.aperture_centre_px =
+        ToPoint(ParsePixelPoint(*v, what("aperture-centre")));
   }
   if (auto v = s.Take("aperture-diameter")) {
     const std::string_view t = Trim(*v);

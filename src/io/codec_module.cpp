@@ -19,6 +19,9 @@
 #ifndef FIGURA_CODEC_INSTALL_DIR
 #define FIGURA_CODEC_INSTALL_DIR ""
 #endif
+#ifndef FIGURA_CODEC_RELATIVE_DIR
+#define FIGURA_CODEC_RELATIVE_DIR ""
+#endif
 #ifndef FIGURA_CODEC_BUILD_DIR
 #define FIGURA_CODEC_BUILD_DIR ""
 #endif
@@ -196,7 +199,15 @@ std::vector<fs::path> CodecModuleFolders() {
   std::vector<fs::path> folders;
   std::error_code ec;
   const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
-  if (!ec && !exe.empty()) folders.push_back(exe.parent_path());
+  if (!ec && !exe.empty()) {
+    folders.push_back(exe.parent_path());
+    // An installed tree moved to another prefix (or a package installed
+    // under /usr): the module's folder relative to the binary's.
+    if (*FIGURA_CODEC_RELATIVE_DIR != '\0') {
+      folders.push_back(
+          (exe.parent_path() / FIGURA_CODEC_RELATIVE_DIR).lexically_normal());
+    }
+  }
   for (const char* folder :
        {FIGURA_CODEC_INSTALL_DIR, FIGURA_CODEC_BUILD_DIR}) {
     if (*folder != '\0') folders.emplace_back(folder);

@@ -5,6 +5,7 @@
 // verdict and numbers; index.html loads in headless Chromium with one table
 // row per input.
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <cmath>
 #include <cstdlib>
@@ -25,14 +26,27 @@ namespace fs = std::filesystem;
 using figura::e2e::ReadFile;
 using figura::e2e::RunFigura;
 
-fs::path Root() { return fs::path(FIGURA_TEST_TMP) / "inspect_e2e"; }
+// One folder per test process: ctest runs the tests of this suite in
+// parallel processes, each of which sets the suite up.
+fs::path Root() {
+  static const fs::path root =
+      fs::path(FIGURA_TEST_TMP) / ("inspect_e2e_" + std::to_string(::getpid()));
+  return root;
+}
 
 std::map<std::string, double>& Truth() {
   static std::map<std::string, double> truth;
   return truth;
 }
 
-std::string Q(const fs::path& p) { return "'" + p.string() + "'"; }
+// Single-quoted for the shell. (Appending avoids GCC 12's false
+// -Wrestrict on "'" + std::string.)
+std::string Q(const fs::path& p) {
+  std::string q = "'";
+  q += p.string();
+  q += '\'';
+  return q;
+}
 
 // Whether `tool` is on PATH.
 bool Have(const std::string& tool) {

@@ -4,6 +4,7 @@
 #include "inspect/lot_run.h"
 
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <atomic>
 #include <cmath>
@@ -22,7 +23,14 @@ namespace {
 
 namespace fs = std::filesystem;
 
-fs::path Root() { return fs::path(FIGURA_TEST_TMP) / "inspect_lot_run"; }
+// One folder per test process: ctest runs the tests of this suite in
+// parallel processes, each of which sets the suite up.
+fs::path Root() {
+  static const fs::path root =
+      fs::path(FIGURA_TEST_TMP) /
+      ("inspect_lot_run_" + std::to_string(::getpid()));
+  return root;
+}
 
 // Part -> truth power (fringes); "junk" is unreadable.
 std::map<std::string, double>& Truth() {

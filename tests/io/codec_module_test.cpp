@@ -227,9 +227,12 @@ TEST(CodecModule, SharedModuleComesFromTheBuild) {
   EXPECT_TRUE(module.problem().empty());
   EXPECT_EQ(module.path().filename(), CodecModuleFileName());
   const std::vector<fs::path> folders = CodecModuleFolders();
-  ASSERT_EQ(folders.size(), 3U);
-  // First the folder of the running program.
-  EXPECT_EQ(folders[0], fs::read_symlink("/proc/self/exe").parent_path());
+  ASSERT_EQ(folders.size(), 4U);
+  // First the folder of the running program, then the install folder
+  // relative to it (a moved or packaged tree).
+  const fs::path exe_dir = fs::read_symlink("/proc/self/exe").parent_path();
+  EXPECT_EQ(folders[0], exe_dir);
+  EXPECT_EQ(folders[1].filename(), "figura");
   EXPECT_TRUE(fs::exists(module.path()));
 }
 
