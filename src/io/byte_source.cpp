@@ -9,6 +9,7 @@
 #include <system_error>
 
 #include "core/error.h"
+#include "io/huge_pages.h"
 
 namespace figura {
 namespace {
@@ -85,7 +86,10 @@ std::int64_t FileSource::ReadAt(std::uint64_t offset, void* out,
 }
 
 std::string FileSource::ReadAll() const {
-  std::string bytes(size_, '\0');
+  std::string bytes;
+  bytes.reserve(size_);
+  AdviseHugePages(bytes.data(), size_);  // before the pages are first touched
+  bytes.resize(size_);
   std::size_t done = 0;
   while (done < bytes.size()) {
     const ssize_t got = ::pread(fd_, bytes.data() + done, bytes.size() - done,

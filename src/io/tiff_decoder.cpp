@@ -1,13 +1,12 @@
 #include "io/tiff_decoder.h"
 
-#include <sys/mman.h>
-
 #include <algorithm>
 #include <cstdint>
 #include <cstring>
 #include <vector>
 
 #include "core/error.h"
+#include "io/huge_pages.h"
 #include "io/image_header.h"
 #include "io/luminance.h"
 #include "io/tiff_io.h"
@@ -184,22 +183,6 @@ std::vector<std::uint8_t> Allocate(const ByteSource& src, std::uint64_t bytes) {
   }
 }
 
-// Asks for transparent huge pages over the 2 MiB-aligned part of a large
-// pixel buffer before it is first written: one fault per 2 MiB instead of
-// per 4 KiB (Linux THP in "madvise" mode; a no-op where unavailable). The
-// faults of a fresh 48 MB float image cost more than its decoding on the
-// machines measured here (bench_rings).
-void AdviseHugePages(const cv::Mat& m) {
-  constexpr std::uintptr_t kHuge = std::uintptr_t{2} << 20;
-  const auto begin = reinterpret_cast<std::uintptr_t>(m.datastart);
-  const auto end = reinterpret_cast<std::uintptr_t>(m.dataend);
-  const std::uintptr_t first = (begin + kHuge - 1) & ~(kHuge - 1);
-  const std::uintptr_t last = end & ~(kHuge - 1);
-  if (last > first) {
-    ::madvise(reinterpret_cast<void*>(first), last - first, MADV_HUGEPAGE);
-  }
-}
-
 cv::Mat ReadPixels(TIFF* tif, const ByteSource& src,
                    const TiffMessages& messages, const Layout& l) {
   const std::uint64_t bytes_per_sample = static_cast<std::uint64_t>(l.bits) / 8;
@@ -219,7 +202,8 @@ cv::Mat ReadPixels(TIFF* tif, const ByteSource& src,
   cv::Mat out;
   try {
     out.create(static_cast<int>(l.height), static_cast<int>(l.width), CV_32FC1);
-    AdviseHugePages(out);
+    AdviseHugePages(out.datastart,
+                    static_cast<std::size_t>(out.dataend - out.datastart));
   } catch (const cv::Exception&) {
     throw InputError(src.Name() + ": not enough memory for a " +
                      std::to_string(l.width) + " x " +
