@@ -122,10 +122,8 @@ int Run(const std::vector<std::string>& args) {
     } catch (const InputError& e) {
       std::cerr << "figura map: error: " << e.what() << "\n";
       exit_code = kExitInput;
-      all.push_back({{"input", {{"path", path}}},
-                     {"settings", MapSettingsJson(options)},
-                     {"tool", ToolJson()},
-                     {"status", StatusJson(Status::kError, {e.what()})}});
+      all.push_back(
+          InputErrorJson({{"path", path}}, MapSettingsJson(options), e.what()));
       continue;
     }
     const MapResult result = AnalyseMap(image, options);

@@ -168,11 +168,8 @@ int Run(const std::vector<std::string>& args) {
     } catch (const InputError& e) {
       std::cerr << "figura rings: error: " << e.what() << "\n";
       exit_code = kExitInput;
-      nlohmann::json j = {{"input", {{"path", path}}},
-                          {"settings", RingsSettingsJson(options, false)},
-                          {"tool", ToolJson()},
-                          {"status", StatusJson(Status::kError, {e.what()})}};
-      all.push_back(j);
+      all.push_back(InputErrorJson(
+          {{"path", path}}, RingsSettingsJson(options, false), e.what()));
       continue;
     }
     const RingsResult result = AnalyseRings(image, options);

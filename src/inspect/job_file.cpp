@@ -77,6 +77,23 @@ std::string SettingMap::What(std::string_view key) const {
   return std::string(key);
 }
 
+namespace {
+
+// The media stack keys shared by the rings and map settings.
+void TakeStack(SettingMap* s, MediaStack* stack) {
+  if (auto v = s->Take("upper-index")) {
+    stack->upper_index = ParseNumber(*v, s->What("upper-index"));
+  }
+  if (auto v = s->Take("gap-index")) {
+    stack->gap_index = ParseNumber(*v, s->What("gap-index"));
+  }
+  if (auto v = s->Take("lower-index")) {
+    stack->lower_index = ParseNumber(*v, s->What("lower-index"));
+  }
+}
+
+}  // namespace
+
 void SettingMap::RefuseUnused(const std::vector<std::string>& known) const {
   for (const Entry& e : entries_) {
     if (e.used) continue;
@@ -129,15 +146,7 @@ RingsOptions RingsOptionsFromSettings(SettingMap& s) {
   if (auto v = s.Take("contact")) {
     fit.contact = ParseContact(*v, what("contact"));
   }
-  if (auto v = s.Take("upper-index")) {
-    fit.stack.upper_index = ParseNumber(*v, what("upper-index"));
-  }
-  if (auto v = s.Take("gap-index")) {
-    fit.stack.gap_index = ParseNumber(*v, what("gap-index"));
-  }
-  if (auto v = s.Take("lower-index")) {
-    fit.stack.lower_index = ParseNumber(*v, what("lower-index"));
-  }
+  TakeStack(&s, &fit.stack);
   if (auto v = s.Take("sectors")) {
     options.detection.sectors = ParseInt(*v, what("sectors"));
   }
@@ -210,15 +219,7 @@ MapOptions MapOptionsFromSettings(SettingMap& s) {
   if (auto v = s.Take("pixel-pitch")) {
     options.pixel_pitch_m = ParseLength(*v, what("pixel-pitch")).metres;
   }
-  if (auto v = s.Take("upper-index")) {
-    options.stack.upper_index = ParseNumber(*v, what("upper-index"));
-  }
-  if (auto v = s.Take("gap-index")) {
-    options.stack.gap_index = ParseNumber(*v, what("gap-index"));
-  }
-  if (auto v = s.Take("lower-index")) {
-    options.stack.lower_index = ParseNumber(*v, what("lower-index"));
-  }
+  TakeStack(&s, &options.stack);
   if (auto v = s.Take("aperture-fraction")) {
     options.aperture_fraction = ParseNumber(*v, what("aperture-fraction"));
   }

@@ -80,10 +80,7 @@ PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
     } catch (const InputError&) {
       input["sha256"] = nullptr;
     }
-    j = {{"input", input},
-         {"settings", job.AnalysisSettingsJson()},
-         {"tool", ToolJson()},
-         {"status", StatusJson(Status::kError, {e.what()})}};
+    j = InputErrorJson(input, job.AnalysisSettingsJson(), e.what());
   }
   FormMeasurement measured;
   if (loaded && job.analysis == Analysis::kMap) {

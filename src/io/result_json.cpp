@@ -47,4 +47,13 @@ void WriteJson(const std::string& path, const nlohmann::json& value,
   WriteFileAtomic(path, text, overwrite);
 }
 
+nlohmann::json InputErrorJson(const nlohmann::json& input,
+                              const nlohmann::json& settings,
+                              const std::string& message) {
+  return {{"input", input},
+          {"settings", settings},
+          {"tool", ToolJson()},
+          {"status", StatusJson(Status::kError, {message})}};
+}
+
 }  // namespace figura

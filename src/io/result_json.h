@@ -25,6 +25,13 @@ nlohmann::json ToolJson();
 nlohmann::json StatusJson(Status status,
                           const std::vector<std::string>& messages);
 
+// The result object of an input that could not be analysed at all (e.g. an
+// unreadable file): {"input", "settings", "tool", "status": error with
+// `message`}.
+nlohmann::json InputErrorJson(const nlohmann::json& input,
+                              const nlohmann::json& settings,
+                              const std::string& message);
+
 // A finite number, or null for NaN/Inf (a non-finite value never reaches a
 // report as a number).
 nlohmann::json FiniteOrNull(double value);
