@@ -117,8 +117,7 @@ std::vector<SpectralSample> SampleSpectrum(const SimulationOptions& options,
 // Supersampling factors per pixel side, by local fringe period [practice]:
 // the midpoint rule's amplitude error for a fringe of period P is about
 // (pi/(s P))^2 / 6, at most 0.16 % with these thresholds; pixels cut by the
-// aperture edge get the finest.
-constexpr std::array<int, 3> kFactors = {2, 4, 8};
+// aperture edge get the finest (8).
 int FactorFor(double period_px) {
   if (period_px >= 16.0) return 2;
   if (period_px >= 8.0) return 4;
@@ -431,7 +430,7 @@ SimulationResult Simulate(const SimulationOptions& options) {
           fill(r + 0.5, &h[2]);
           filled = true;
         }
-        const auto k = static_cast<std::size_t>(2 * i + 1);
+        const auto k = 2 * static_cast<std::size_t>(i) + 1;
         const double t0 = h[1][k];
         const double tl = h[1][k - 1];
         const double tr = h[1][k + 1];
@@ -502,7 +501,7 @@ SimulationResult Simulate(const SimulationOptions& options) {
       std::poisson_distribution<long> poisson(1.0);
       const float* in = signal.ptr<float>(r);
       for (int i = 0; i < width; ++i) {
-        double level = in[i];
+        double level = static_cast<double>(in[i]);
         if (cam.full_well_e > 0.0) {
           double electrons = std::max(0.0, level) * cam.full_well_e;
           if (electrons <= 0.0) {

@@ -86,7 +86,9 @@ struct SimulationOptions {
 inline constexpr double kMinFringePeriodPx = 2.5;
 
 // A rendered photograph and its truth.
-struct SimulationResult {
+// (nlohmann::json members make the implicit special members formally
+// throwing; nothing here throws.)
+struct SimulationResult {  // NOLINT(bugprone-exception-escape)
   Status status = Status::kOk;
   std::vector<std::string> messages;
   // CV_8UC1, CV_16UC1 or CV_32FC1 after the camera model.
