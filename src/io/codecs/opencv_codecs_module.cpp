@@ -34,6 +34,23 @@ struct Owned {
   std::vector<unsigned char> bytes;
 };
 
+// The exception being handled as error text; call only inside a catch
+// block (it rethrows to tell the kinds apart).
+void SetErrorFromCurrentException(char* error,
+                                  std::size_t error_size) noexcept {
+  try {
+    throw;
+  } catch (const cv::Exception& e) {
+    SetError(e.err, error, error_size);
+  } catch (const std::bad_alloc&) {
+    SetError("out of memory", error, error_size);
+  } catch (const std::exception& e) {
+    SetError(e.what(), error, error_size);
+  } catch (...) {
+    SetError("unknown error", error, error_size);
+  }
+}
+
 int Decode(const unsigned char* bytes, std::size_t size, FiguraCodecPixels* out,
            char* error, std::size_t error_size) noexcept {
   try {
@@ -66,14 +83,8 @@ int Decode(const unsigned char* bytes, std::size_t size, FiguraCodecPixels* out,
     out->bits = m.depth() == CV_16U ? 16 : 8;
     out->handle = owned.release();
     return kFiguraCodecOk;
-  } catch (const cv::Exception& e) {
-    SetError(e.err, error, error_size);
-  } catch (const std::bad_alloc&) {
-    SetError("out of memory", error, error_size);
-  } catch (const std::exception& e) {
-    SetError(e.what(), error, error_size);
   } catch (...) {
-    SetError("unknown error", error, error_size);
+    SetErrorFromCurrentException(error, error_size);
   }
   return kFiguraCodecFailed;
 }
@@ -113,14 +124,8 @@ int Encode(const FiguraCodecImageView* image, int format, int quality,
     out->size = owned->bytes.size();
     out->handle = owned.release();
     return kFiguraCodecOk;
-  } catch (const cv::Exception& e) {
-    SetError(e.err, error, error_size);
-  } catch (const std::bad_alloc&) {
-    SetError("out of memory", error, error_size);
-  } catch (const std::exception& e) {
-    SetError(e.what(), error, error_size);
   } catch (...) {
-    SetError("unknown error", error, error_size);
+    SetErrorFromCurrentException(error, error_size);
   }
   return kFiguraCodecFailed;
 }
