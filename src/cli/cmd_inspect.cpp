@@ -21,8 +21,9 @@ namespace figura::cli {
 namespace {
 
 constexpr const char* kUsage =
-    "--job JOB.ini [--out DIR] [--jobs N] [--force] IMAGE...|DIR\n"
-    "       figura inspect --merge SHARD_DIR... [--out DIR]";
+    "--job JOB.ini [--out DIR] [--jobs N] [--force] "
+    "[--progress auto|bar|lines|quiet] IMAGE...|DIR\n"
+    "       figura inspect --merge SHARD_DIR... [--out DIR] [--force]";
 
 // Set by SIGINT: stop dispatching new parts.
 std::atomic<bool> g_stop{false};
