@@ -24,29 +24,24 @@ echo "== 2. Why the contact spot is dark: crown glass on crown glass with an air
 
 echo
 echo "== 3. Lot OW-117 against the CC 51.68 mm test plate: figura inspect (job: config/ow117-job.ini)"
-echo "   Six photos: parts 01, 02 and 04 to 07 (07 was taken with the gain at maximum)."
+echo "   Seven photos, parts 01 to 07 (manifest config/ow117-parts.csv). Part 03 rocked on its"
+echo "   rim in the press test: the manifest's contact column gives it contact = edge. Part 07"
+echo "   was taken with the gain at maximum."
 "$figura" inspect --job "$top/config/ow117-job.ini" --out "$out/lot-ow117" --force --jobs 2 \
-  "$here"/ow117-01.tif "$here"/ow117-02.tif "$here"/ow117-04.jpg "$here"/ow117-05.tif \
-  "$here"/ow117-06.tif "$here"/ow117-07.tif
+  "$here"/ow117-01.tif "$here"/ow117-02.tif "$here"/ow117-03.tif "$here"/ow117-04.jpg \
+  "$here"/ow117-05.tif "$here"/ow117-06.tif "$here"/ow117-07.tif
 lot=$?
 echo "   figura inspect exit code $lot (0 all pass, 1 a fail or indeterminate, 2 an unusable photo)"
 [ "$lot" -le 2 ] || status=$lot
 
 echo
-echo "== 4. Part 03 rocks on its rim: the press test says contact at the edge"
-"$figura" rings "$here/ow117-03.tif" --wavelength sodium --pixel-pitch 40um \
-  --reference-radius -51.68mm --contact edge --test-diameter 20mm \
-  --json "$out/ow117-03.json" --overlay "$out/ow117-03-overlay.png" \
-  --plot "$out/ow117-03-plot.svg" || status=$?
-
-echo
-echo "== 5. Lab bench: Newton's rings of a long-radius lens on a flat (mercury e line, 18 um per pixel)"
+echo "== 4. Lab bench: Newton's rings of a long-radius lens on a flat (mercury e line, 18 um per pixel)"
 "$figura" rings "$here/lab-nr-01.tif" --wavelength mercury-e --pixel-pitch 18um \
   --json "$out/lab-nr-01.json" --overlay "$out/lab-nr-01-overlay.png" \
   --plot "$out/lab-nr-01-plot.svg" || status=$?
 
 echo
-echo "== 6. Window W01 on the reference flat (helium d line, air wedge thin on the left): surface map"
+echo "== 5. Window W01 on the reference flat (helium d line, air wedge thin on the left): surface map"
 "$figura" map "$here/flat-w01.tif" --wavelength helium-d --thin-side left --pixel-pitch 60um \
   --json "$out/flat-w01.json" --height "$out/flat-w01-height.tif" \
   --picture "$out/flat-w01-map.png" || status=$?

@@ -60,9 +60,10 @@ void LinkFiles(const fs::path& out_dir, const std::string& part, LotRow* row) {
   row->thumbnail = link(part + ".png");
 }
 
-// Runs and writes one part; returns its row.
-LotRow ProcessTask(const Task& task, const LotOptions& options,
-                   const std::string& settings_sha256) {
+// Runs and writes one part; returns its row. An existing part file is kept
+// when its photo and its settings (PartJob: the job with the part's own
+// contact) are unchanged.
+LotRow ProcessTask(const Task& task, const LotOptions& options) {
   if (!task.id) {
     LotRow row;
     row.file = task.file;
@@ -89,7 +90,8 @@ LotRow ProcessTask(const Task& task, const LotOptions& options,
     }
     const std::optional<nlohmann::json> old = TryReadJson(json_path);
     if (old && old->is_object() &&
-        old->value("job_settings_sha256", "") == settings_sha256 &&
+        old->value("job_settings_sha256", "") ==
+            JobSettingsSha256(PartJob(options.job, *task.id)) &&
         old->value("input", nlohmann::json::object()).value("sha256", "") ==
             sha &&
         (!options.write_reports || fs::exists(out / (part + ".pdf")))) {
@@ -293,7 +295,7 @@ LotResult RunLot(const LotOptions& options) {
       if (i >= tasks.size()) return;
       LotRow row;
       try {
-        row = ProcessTask(tasks[i], options, settings_sha);
+        row = ProcessTask(tasks[i], options);
       } catch (const std::exception& e) {
         row.file = tasks[i].file;
         row.status = "error";

@@ -132,6 +132,7 @@ PartNamer::PartNamer(const PartIdOptions& options) : options_(options) {
     std::string line;
     int line_no = 0;
     int file_col = -1, part_col = -1, serial_col = -1, notes_col = -1;
+    int contact_col = -1;
     std::map<std::string, int> names;  // file name -> count
     std::map<std::string, PartIdentity> rows_by_name;
     std::set<std::string> parts;
@@ -148,11 +149,12 @@ PartNamer::PartNamer(const PartIdOptions& options) : options_(options) {
           if (f[c] == "part") part_col = ci;
           if (f[c] == "serial") serial_col = ci;
           if (f[c] == "notes") notes_col = ci;
+          if (f[c] == "contact") contact_col = ci;
         }
         if (file_col < 0 || part_col < 0) {
           throw InputError(where +
                            ": the header must name the columns file and "
-                           "part (optionally serial, notes)");
+                           "part (optionally serial, notes, contact)");
         }
         continue;
       }
@@ -161,7 +163,10 @@ PartNamer::PartNamer(const PartIdOptions& options) : options_(options) {
                    ? f[static_cast<std::size_t>(c)]
                    : std::string();
       };
-      PartIdentity id{cell(part_col), cell(serial_col), cell(notes_col)};
+      PartIdentity id{cell(part_col), cell(serial_col), cell(notes_col), {}};
+      if (const std::string contact = cell(contact_col); !contact.empty()) {
+        id.contact = ParseContact(contact, where + ": contact");
+      }
       const std::string file = cell(file_col);
       if (file.empty()) throw InputError(where + ": empty file name");
       if (std::string why = CheckPartId(id.part); !why.empty()) {

@@ -8,17 +8,22 @@
 // "L0001-{part}.tif" or "{part}_{serial}_*.png". Without a pattern the part
 // id is the file name without its extension.
 // Manifest: a CSV file (RFC 4180 quoting) whose header names the columns
-// file, part and optionally serial and notes, in any order; `file` is the
-// path as given on the command line or just the file name.
+// file, part and optionally serial, notes and contact, in any order; `file`
+// is the path as given on the command line or just the file name; `contact`
+// (centre, center or edge; empty: the job's) overrides the job's contact for
+// that part (the press test of that part, docs/lots.md).
 // A part id must be 1..64 characters of A-Z a-z 0-9 . _ - not starting
 // with '.', so that it is a safe file name.
 #pragma once
 
 #include <filesystem>
 #include <map>
+#include <optional>
 #include <regex>
 #include <string>
 #include <vector>
+
+#include "optics/sphere.h"
 
 namespace figura {
 
@@ -27,6 +32,9 @@ struct PartIdentity {
   std::string part;
   std::string serial;
   std::string notes;
+  // Where this part touched its reference (manifest column contact);
+  // nullopt: the job's contact applies.
+  std::optional<Contact> contact;
 };
 
 // How part ids are found.
@@ -51,7 +59,8 @@ class PartNamer {
  public:
   // Compiles the pattern or reads the manifest. Throws InputError naming
   // the pattern (and the column of the problem) or the manifest file and
-  // line (missing columns, a file listed twice, a bad part id).
+  // line (missing columns, a file listed twice, a bad part id, a contact
+  // other than centre or edge).
   explicit PartNamer(const PartIdOptions& options);
 
   // The identity of `file` (as given on the command line). Throws

@@ -62,8 +62,20 @@ FormMeasurement MapFormMeasurement(const MapResult& result) {
   return m;
 }
 
+JobOptions PartJob(const JobOptions& job, const PartIdentity& id) {
+  JobOptions part_job = job;
+  if (id.contact) {
+    part_job.rings.fit.contact = *id.contact;
+    part_job.map.contact = *id.contact;
+    part_job.map.contact_given = true;
+  }
+  return part_job;
+}
+
 PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
-                        const JobOptions& job, const std::string& date_utc) {
+                        const JobOptions& lot_job,
+                        const std::string& date_utc) {
+  const JobOptions job = PartJob(lot_job, id);
   PartOutcome out;
   nlohmann::json& j = out.result;
   Image image;
@@ -123,6 +135,8 @@ PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
                {"part", id.part},
                {"serial", id.serial},
                {"notes", id.notes},
+               {"contact", id.contact ? nlohmann::json(ContactName(*id.contact))
+                                      : nlohmann::json(nullptr)},
                {"operator", job.operator_name},
                {"date", date_utc}};
   j["tolerance"] = FormToleranceJson(job.tolerance);

@@ -49,9 +49,15 @@ struct PartOutcome {
   RingsResult rings;  // analysis = rings (for the plot)
 };
 
-// Inspects `file` (as given) for part `id`: never throws for a bad
-// photograph (an unreadable or unusable photo gives status error with the
-// reason). `date_utc` is written as part.date (ISO 8601 UTC).
+// The job as it applies to part `id`: the job itself, with the part's
+// contact (manifest column contact) in place of the job's when given, for
+// rings and map alike. A part's settings block and job_settings_sha256 come
+// from this job.
+JobOptions PartJob(const JobOptions& job, const PartIdentity& id);
+
+// Inspects `file` (as given) for part `id` under PartJob(job, id): never throws
+// for a bad photograph (an unreadable or unusable photo gives status error with
+// the reason). `date_utc` is written as part.date (ISO 8601 UTC).
 PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
                         const JobOptions& job, const std::string& date_utc);
 

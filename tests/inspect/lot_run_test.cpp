@@ -6,11 +6,13 @@
 #include <gtest/gtest.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <atomic>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <string>
 
 #include "core/error.h"
@@ -191,6 +193,67 @@ TEST_F(LotRunTest, MergeShards) {
   // The same part in two shards is refused.
   m.shards = {Root() / "shards/a", Root() / "shards/a"};
   EXPECT_THROW(MergeLots(m), InputError);
+}
+
+// A manifest column `contact` overrides the job's contact (centre) for one
+// part: a part flatter than the plate's match touches at its rim, and only
+// with `edge` does its radius come out on the flat side of the plate's
+// match (the sign of the sag difference, references.md test plates).
+TEST_F(LotRunTest, ManifestContactOverridesTheJobPerPart) {
+  const fs::path dir = Root() / "contact";
+  fs::create_directories(dir / "in");
+  // 5 fringes flatter than the -100 mm plate's match over 12 mm.
+  const double edge_radius_mm = test::PartRadiusFor(-5.0) * 1e3;
+  (void)test::WriteLotPhoto(dir / "in/E-1.tif", -5.0, 104, Contact::kEdge);
+  fs::copy_file(Root() / "photos/P-pass.tif", dir / "in/C-1.tif");
+  std::ofstream(dir / "parts.csv") << "file,part,contact\n"
+                                   << "E-1.tif,E-1,edge\n"
+                                   << "C-1.tif,C-1,\n";
+  std::ofstream(dir / "plain.csv") << "file,part\nE-1.tif,E-1\n";
+  LotOptions o =
+      Options("contact/out",
+              std::string("manifest = ").append((dir / "parts.csv").string()));
+  o.inputs = {(dir / "in").string()};
+  const LotResult r = RunLot(o);
+  ASSERT_EQ(r.summary.rows.size(), 2U);
+  const auto part = [&](const std::string& id) {
+    return nlohmann::json::parse(
+        ReadTextFile(Root() / "contact/out" / (id + ".json")));
+  };
+  const nlohmann::json e = part("E-1");
+  const nlohmann::json c = part("C-1");
+  // ok, or a warning (few rings over 12 mm); not an error.
+  ASSERT_NE(e["status"]["state"], "error") << e["status"].dump();
+  EXPECT_EQ(e["settings"]["contact"], "edge");
+  EXPECT_EQ(e["part"]["contact"], "edge");
+  EXPECT_EQ(c["settings"]["contact"], "centre");
+  EXPECT_TRUE(c["part"]["contact"].is_null());
+  const double radius = e["part_radius_mm"].get<double>();
+  const double u95 = e["part_radius_u95_mm"].get<double>();
+  std::printf("edge part: %.5f mm (truth %.5f, U95 %.5f)\n", radius,
+              edge_radius_mm, u95);
+  EXPECT_LE(std::abs(radius - edge_radius_mm), std::max(u95, 1e-4));
+  EXPECT_GT(radius, 100.0);  // flatter than the plate's +100 mm match
+  EXPECT_EQ(e["conformance"]["verdict"], "pass");  // |5| within +-8
+  // The part's own settings hash differs from the lot's; the plain part's
+  // equals it.
+  EXPECT_NE(e["job_settings_sha256"], r.summary.settings_sha256);
+  EXPECT_EQ(c["job_settings_sha256"], r.summary.settings_sha256);
+  // A rerun recognises both parts as unchanged.
+  const LotResult again = RunLot(o);
+  for (const LotRow& row : again.summary.rows) {
+    EXPECT_TRUE(row.skipped) << row.part << ": " << row.message;
+  }
+  // Without the column the job's centre contact puts the same photo on the
+  // steep side of the match: the override is what makes it right.
+  LotOptions plain =
+      Options("contact/plain",
+              std::string("manifest = ").append((dir / "plain.csv").string()));
+  plain.inputs = {(dir / "in/E-1.tif").string()};
+  (void)RunLot(plain);
+  const nlohmann::json p =
+      nlohmann::json::parse(ReadTextFile(Root() / "contact/plain/E-1.json"));
+  EXPECT_LT(p["part_radius_mm"].get<double>(), 100.0);
 }
 
 }  // namespace

@@ -109,6 +109,47 @@ TEST(PartId, ManifestErrorsNameTheLine) {
   EXPECT_THROW(PartNamer{o}, InputError);
 }
 
+TEST(PartId, ManifestContactColumnOverridesPerPart) {
+  const fs::path dir = Scratch("manifest_contact");
+  const fs::path csv = dir / "m.csv";
+  // Column order is free; an empty cell keeps the job's contact.
+  std::ofstream(csv) << "file,contact,part\n"
+                     << "a.tif,edge,P-1\n"
+                     << "b.tif,,P-2\n"
+                     << "c.tif, center ,P-3\n";
+  PartIdOptions o;
+  o.manifest = csv;
+  const PartNamer namer(o);
+  const PartIdentity a = namer.Identify("a.tif");
+  ASSERT_TRUE(a.contact.has_value());
+  EXPECT_EQ(*a.contact, Contact::kEdge);
+  EXPECT_FALSE(namer.Identify("b.tif").contact.has_value());
+  const PartIdentity c = namer.Identify("c.tif");
+  ASSERT_TRUE(c.contact.has_value());
+  EXPECT_EQ(*c.contact, Contact::kCentre);
+  // Without the column every part keeps the job's contact.
+  std::ofstream(csv) << "file,part\na.tif,P-1\n";
+  EXPECT_FALSE(PartNamer(o).Identify("a.tif").contact.has_value());
+}
+
+TEST(PartId, ManifestBadContactNamesFileAndLine) {
+  const fs::path dir = Scratch("manifest_contact_bad");
+  const fs::path csv = dir / "m.csv";
+  std::ofstream(csv) << "file,part,contact\na.tif,P-1,centre\n"
+                     << "b.tif,P-2,rim\n";
+  PartIdOptions o;
+  o.manifest = csv;
+  try {
+    const PartNamer namer(o);
+    FAIL() << "contact 'rim' was accepted";
+  } catch (const InputError& e) {
+    const std::string what = e.what();
+    EXPECT_NE(what.find("m.csv:3: contact:"), std::string::npos) << what;
+    EXPECT_NE(what.find("'rim'"), std::string::npos) << what;
+    EXPECT_EQ(what.find('\n'), std::string::npos) << what;  // one line
+  }
+}
+
 TEST(PartId, CsvSplitQuoting) {
   // RFC 4180, section 2: quoted fields hold commas and doubled quotes.
   const auto f = SplitCsvLine(R"(a,"b,c","d""e",)", "x");

@@ -53,13 +53,15 @@ inline double PartRadiusFor(double fringes) {
 }
 
 // Renders and writes one part photo (16-bit TIFF) and its truth file;
-// returns the truth's power in fringes.
+// returns the truth's power in fringes. A part flatter than the plate's
+// match (fringes < 0) touches at the edge: pass Contact::kEdge for it.
 inline double WriteLotPhoto(const std::filesystem::path& path, double fringes,
-                            std::uint64_t seed) {
+                            std::uint64_t seed,
+                            Contact contact = Contact::kCentre) {
   SimulationOptions o;
   o.gap.part_radius_m = PartRadiusFor(fringes);
   o.gap.plate_radius_m = kPlateRadiusM;
-  o.gap.contact = Contact::kCentre;
+  o.gap.contact = contact;
   o.wavelength = Wavelength{Length::Metres(kWavelengthM), {}, {}, {}, {}};
   o.aperture_diameter_m = 2.0 * kTestRadiusM;
   o.camera.width_px = 640;
