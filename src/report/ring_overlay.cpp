@@ -37,8 +37,9 @@ cv::Mat RenderRingOverlay(const Image& image, const RingsResult& result) {
         sample.push_back(src.at<float>(y, x));
     }
     std::sort(sample.begin(), sample.end());
-    const double lo = sample[sample.size() / 200];
-    const double hi = sample[sample.size() - 1 - sample.size() / 200];
+    const double lo = static_cast<double>(sample[sample.size() / 200]);
+    const double hi =
+        static_cast<double>(sample[sample.size() - 1 - sample.size() / 200]);
     const double scale = hi > lo ? 255.0 / (hi - lo) : 1.0;
     src.convertTo(grey8, CV_8UC1, scale, -lo * scale);
   }
