@@ -446,6 +446,13 @@ FormTolerance ParseFormTolerance(std::string_view text,
       l.fringes = s.value.number;
       l.nm = l.fringes * nm_per_fringe;
     }
+    // A finite number may still overflow in the other unit (e.g. 1e308
+    // fringes in nm): such a limit cannot be compared with a measurement.
+    if (!std::isfinite(l.nm) || !std::isfinite(l.fringes)) {
+      Parser(text).Fail(s.value.begin,
+                        std::string(CharacteristicInfoOf(c).symbol) +
+                            " is too large to convert between fringes and nm");
+    }
   }
   if (!any) {
     Parser(text).Fail(0,

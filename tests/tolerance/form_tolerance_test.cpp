@@ -2,6 +2,7 @@
 
 #include <gtest/gtest.h>
 
+#include <cmath>
 #include <string>
 
 #include "check_record.h"
@@ -186,6 +187,40 @@ TEST(ParseFormTolerance, MalformedTextPointsAtTheColumn) {
       EXPECT_NE(e.Problem().find(r.words), std::string::npos) << e.Problem();
     }
   }
+}
+
+// Found by tolerance_fuzz (tests/fuzz/corpus/tolerance_fuzz/
+// regress-limit-overflows-in-nm): a limit finite as written but infinite in
+// the other unit (1e306 fringes x 273 nm, 2e306 um x 1000) was accepted with
+// an infinite limit; DBL_MAX = 1.797e308 (IEEE 754 binary64).
+TEST(ParseFormTolerance, LimitThatOverflowsInTheOtherUnitIsRefused) {
+  const std::string huge_fringes = "1" + std::string(306, '0');
+  const std::string huge_um = "2" + std::string(306, '0') + "um";
+  struct Row {
+    std::string text;
+    int column;
+    const char* words;
+  };
+  const Row rows[] = {
+      {"3/" + huge_fringes + "(1)", 3, "A is too large"},
+      {"3/1(1) RMSi < " + huge_fringes, 15, "RMSi is too large"},
+      {"3/-(" + huge_um + ")", 5, "B is too large"},
+  };
+  for (const Row& r : rows) {
+    SCOPED_TRACE(r.text);
+    try {
+      (void)ParseFormTolerance(r.text);
+      ADD_FAILURE() << "no error";
+    } catch (const ToleranceSyntaxError& e) {
+      EXPECT_EQ(e.Column(), r.column) << e.what();
+      EXPECT_NE(e.Problem().find(r.words), std::string::npos) << e.Problem();
+    }
+  }
+  // One power of ten less stays finite and is accepted: 1e305 x 273.035 nm.
+  const FormTolerance t =
+      ParseFormTolerance("3/1(1) RMSi < 1" + std::string(305, '0'));
+  EXPECT_TRUE(
+      std::isfinite(t.LimitOf(FormCharacteristic::kRmsIrregularity).nm));
 }
 
 TEST(ToleranceSyntaxError, PrintsTheTextAndACaretUnderTheColumn) {
