@@ -164,12 +164,13 @@ std::map<std::string, DocOption> DocOptions(const std::string& section) {
     std::vector<std::string> defaults;
     if (default_col >= 0 &&
         static_cast<std::size_t>(default_col) < cells.size()) {
-      const std::string d = cells[static_cast<std::size_t>(default_col)];
+      const std::string& d = cells[static_cast<std::size_t>(default_col)];
       if (names.size() > 1) {
         std::size_t start = 0;
-        for (std::size_t p; (p = d.find(", ", start)) != std::string::npos;
-             start = p + 2) {
+        for (std::size_t p = d.find(", "); p != std::string::npos;
+             p = d.find(", ", start)) {
           defaults.push_back(d.substr(start, p - start));
+          start = p + 2;
         }
         defaults.push_back(d.substr(start));
       } else {

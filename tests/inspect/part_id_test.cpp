@@ -19,7 +19,7 @@ namespace {
 namespace fs = std::filesystem;
 
 fs::path Scratch(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / "inspect_part_id" / name;
+  fs::path dir = fs::path(FIGURA_TEST_TMP) / "inspect_part_id" / name;
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
