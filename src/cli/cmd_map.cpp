@@ -15,6 +15,7 @@
 #include "core/error.h"
 #include "io/image.h"
 #include "io/image_writer.h"
+#include "io/photo_check.h"
 #include "io/result_json.h"
 #include "report/surface_picture.h"
 #include "surface/surface_map.h"
@@ -119,6 +120,7 @@ int Run(const std::vector<std::string>& args) {
     Image image;
     try {
       image = LoadImage(path);
+      CheckPhoto(image);
     } catch (const InputError& e) {
       std::cerr << "figura map: error: " << e.what() << "\n";
       exit_code = kExitInput;

@@ -16,6 +16,7 @@
 #include "core/text_file.h"
 #include "fringe/ring_analysis.h"
 #include "io/image.h"
+#include "io/photo_check.h"
 #include "io/result_json.h"
 #include "report/ring_overlay.h"
 #include "report/ring_plot.h"
@@ -165,6 +166,7 @@ int Run(const std::vector<std::string>& args) {
     Image image;
     try {
       image = LoadImage(path);
+      CheckPhoto(image);
     } catch (const InputError& e) {
       std::cerr << "figura rings: error: " << e.what() << "\n";
       exit_code = kExitInput;

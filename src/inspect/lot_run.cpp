@@ -90,9 +90,9 @@ LotRow ProcessTask(const Task& task, const LotOptions& options) {
     }
     const std::optional<nlohmann::json> old = TryReadJson(json_path);
     if (old && old->is_object() &&
-        old->value("job_settings_sha256", "") ==
+        StringOr(*old, "job_settings_sha256") ==
             JobSettingsSha256(PartJob(options.job, *task.id)) &&
-        old->value("input", nlohmann::json::object()).value("sha256", "") ==
+        StringOr(old->value("input", nlohmann::json::object()), "sha256") ==
             sha &&
         (!options.write_reports || fs::exists(out / (part + ".pdf")))) {
       LotRow row = RowFromPartResult(*old, task.file);
@@ -199,11 +199,12 @@ std::vector<std::string> ExpandInputs(const std::vector<std::string>& inputs) {
       continue;
     }
     std::vector<std::string> found;
+    // Every entry named like an image is an input, also a folder, a
+    // dangling or looping link or a FIFO: loading refuses it with a reason,
+    // so it becomes an error row instead of vanishing from the lot.
     for (fs::directory_iterator it(in, ec), end; !ec && it != end;
          it.increment(ec)) {
-      if (it->is_regular_file(ec) && IsImageExtension(it->path())) {
-        found.push_back(it->path().string());
-      }
+      if (IsImageExtension(it->path())) found.push_back(it->path().string());
     }
     if (ec)
       throw InputError(in + ": cannot read the folder (" + ec.message() + ")");

@@ -45,9 +45,11 @@ struct LotResult {
 // Image file extensions taken from a folder (case-insensitive).
 bool IsImageExtension(const std::filesystem::path& path);
 
-// Files and folders as given -> files: a folder contributes its image files
-// (IsImageExtension, not recursive) sorted by name; anything else is kept as
-// given (a missing file becomes an error row, not a stop). Throws
+// Files and folders as given -> files: a folder contributes every entry
+// named like an image (IsImageExtension, not recursive; also a sub-folder,
+// a broken or looping link, which then become error rows) sorted by name;
+// anything else is kept as given (a missing file becomes an error row, not
+// a stop). Throws
 // InputError for a folder that cannot be read.
 std::vector<std::string> ExpandInputs(const std::vector<std::string>& inputs);
 

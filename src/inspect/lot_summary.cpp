@@ -18,13 +18,6 @@ double NumberOrNan(const nlohmann::json& j) {
                        : std::numeric_limits<double>::quiet_NaN();
 }
 
-std::string StringOr(const nlohmann::json& j, const char* key) {
-  if (!j.is_object()) return {};
-  const auto it = j.find(key);
-  return it != j.end() && it->is_string() ? it->get<std::string>()
-                                          : std::string();
-}
-
 std::string FormatNumber(double v) {
   if (!std::isfinite(v)) return {};
   char buffer[40];

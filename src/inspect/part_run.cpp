@@ -6,6 +6,7 @@
 #include "core/error.h"
 #include "core/sha256.h"
 #include "io/image.h"
+#include "io/photo_check.h"
 #include "io/result_json.h"
 #include "report/ring_overlay.h"
 #include "report/surface_picture.h"
@@ -82,6 +83,7 @@ PartOutcome InspectPart(const std::string& file, const PartIdentity& id,
   bool loaded = false;
   try {
     image = LoadImage(file);
+    CheckPhoto(image);
     loaded = true;
   } catch (const InputError& e) {
     nlohmann::json input = {{"path", file}};
@@ -171,7 +173,7 @@ LotRow RowFromPartResult(const nlohmann::json& r, const std::string& file) {
   row.serial = part.value("serial", "");
   row.notes = part.value("notes", "");
   const nlohmann::json input = r.value("input", nlohmann::json::object());
-  row.input_sha256 = input.value("sha256", "");
+  row.input_sha256 = StringOr(input, "sha256");
   const nlohmann::json status = r.value("status", nlohmann::json::object());
   const std::string state = status.value("state", "error");
   row.status = state;

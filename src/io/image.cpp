@@ -42,6 +42,10 @@ DecodedPixels DecodeWithModule(const MemorySource& source, ImageFormat format,
     throw InputError(source.Name() +
                      ": truncated or corrupt jpeg (no end of image marker)");
   }
+  if (format == ImageFormat::kPng && !PngIsComplete(source)) {
+    throw InputError(source.Name() +
+                     ": truncated or corrupt png (no complete IEND chunk)");
+  }
   if (source.Size() > static_cast<std::uint64_t>(INT_MAX)) {
     throw InputError(source.Name() + ": " + kind +
                      " file too large to decode (limit 2 GiB)");

@@ -281,6 +281,22 @@ bool JpegIsComplete(const ByteSource& source) {
   return false;
 }
 
+bool PngIsComplete(const ByteSource& source) {
+  const std::string_view d = source.Memory();
+  const auto at = [&](std::size_t i) {
+    return static_cast<std::uint32_t>(static_cast<std::uint8_t>(d[i]));
+  };
+  std::size_t pos = 8;  // after the signature
+  while (pos + 12 <= d.size()) {
+    const std::uint32_t length =
+        at(pos) << 24 | at(pos + 1) << 16 | at(pos + 2) << 8 | at(pos + 3);
+    if (length > 0x7FFFFFFFU) return false;  // ISO/IEC 15948: < 2^31
+    if (d.substr(pos + 4, 4) == "IEND") return true;
+    pos += 12 + static_cast<std::size_t>(length);
+  }
+  return false;
+}
+
 void CheckPixelLimit(const std::string& name, std::int64_t width,
                      std::int64_t height, std::int64_t max_pixels) {
   const bool too_wide = width > INT_MAX || height > INT_MAX;

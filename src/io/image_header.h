@@ -42,6 +42,12 @@ ImageHeader ReadImageHeader(const ByteSource& source, ImageFormat format);
 // must be found here).
 bool JpegIsComplete(const ByteSource& source);
 
+// True when a PNG held in memory is a chain of whole chunks (4-byte
+// big-endian length, type, data, CRC; PNG spec, ISO/IEC 15948 section 5.3)
+// from the signature to an IEND chunk. A truncated file fails here with our
+// own message, before libpng can print its own to standard error.
+bool PngIsComplete(const ByteSource& source);
+
 // Throws InputError when width x height exceeds max_pixels or a side does not
 // fit in an int (OpenCV's limit).
 void CheckPixelLimit(const std::string& name, std::int64_t width,

@@ -32,6 +32,13 @@ nlohmann::json FiniteOrNull(double value) {
   return value;
 }
 
+std::string StringOr(const nlohmann::json& j, const char* key) {
+  if (!j.is_object()) return {};
+  const auto it = j.find(key);
+  return it != j.end() && it->is_string() ? it->get<std::string>()
+                                          : std::string();
+}
+
 void WriteJson(const std::string& path, const nlohmann::json& value,
                Overwrite overwrite) {
   // Invalid UTF-8 (e.g. from a file name) is replaced rather than thrown on.

@@ -36,6 +36,11 @@ nlohmann::json InputErrorJson(const nlohmann::json& input,
 // report as a number).
 nlohmann::json FiniteOrNull(double value);
 
+// The string at `key` of a JSON object; empty when `j` is not an object or
+// the key is missing, null or not a string (results read back from disk
+// may hold null, e.g. the hash of an unreadable input).
+std::string StringOr(const nlohmann::json& j, const char* key);
+
 // Writes `value` pretty-printed (2 spaces, trailing newline) to `path`
 // atomically, or to standard output when path is "-". Throws OutputError.
 void WriteJson(const std::string& path, const nlohmann::json& value,

@@ -298,7 +298,7 @@ void ProbeTiff(const ByteSource& source, std::int64_t max_pixels,
   TiffMessages messages;
   TiffReadClient client;
   const TiffHandle tif = OpenTiffForReading(source, &client, &messages);
-  if (!tif) Fail(source, "corrupt TIFF", messages);
+  if (!tif) Fail(source, "truncated or corrupt TIFF", messages);
   FillInfo(ReadLayout(tif.get(), source, messages, max_pixels), info);
 }
 
@@ -307,7 +307,7 @@ cv::Mat DecodeTiff(const ByteSource& source, std::int64_t max_pixels,
   TiffMessages messages;
   TiffReadClient client;
   const TiffHandle tif = OpenTiffForReading(source, &client, &messages);
-  if (!tif) Fail(source, "corrupt TIFF", messages);
+  if (!tif) Fail(source, "truncated or corrupt TIFF", messages);
   const Layout layout = ReadLayout(tif.get(), source, messages, max_pixels);
   FillInfo(layout, info);
   return ReadPixels(tif.get(), source, messages, layout);

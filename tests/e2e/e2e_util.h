@@ -3,12 +3,15 @@
 #pragma once
 
 #include <sys/wait.h>
+#include <unistd.h>
 
 #include <array>
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
+#include <regex>
 #include <string>
+#include <vector>
 
 namespace figura::e2e {
 
@@ -72,11 +75,127 @@ inline CommandOutcome RunFigura(const std::string& args,
   return RunFigura(args, fs::path(FIGURA_TEST_TMP) / "e2e_capture" / tag);
 }
 
+// As above for a literal tag (a const char* converts to both a path and a
+// string: this overload makes such calls unambiguous).
+inline CommandOutcome RunFigura(const std::string& args, const char* tag) {
+  return RunFigura(args, std::string(tag));
+}
+
 // Number of newline characters in a text.
 inline int CountLines(const std::string& text) {
   int lines = 0;
   for (char c : text) lines += c == '\n' ? 1 : 0;
   return lines;
+}
+
+// A path single-quoted for the shell (paths with a ' are not supported).
+// Appending avoids GCC 12's false -Wrestrict on "'" + std::string.
+inline std::string Quote(const fs::path& path) {
+  std::string q(1, '\'');
+  q += path.string();
+  q += '\'';
+  return q;
+}
+
+// Whether a shell command exits 0 (its output discarded).
+inline bool Succeeds(const std::string& command) {
+  const std::string quiet = command + " >/dev/null 2>&1 </dev/null";
+  return std::system(quiet.c_str()) == 0;
+}
+
+// The unprivileged user the bounded runs drop to when the tests run as root
+// (root ignores file permissions): Debian's `nobody`.
+inline constexpr int kNobodyId = 65534;
+
+// setpriv (util-linux) arguments that run a command as kNobodyId.
+inline std::string DropToNobody() {
+  return "setpriv --reuid=65534 --regid=65534 --clear-groups -- ";
+}
+
+// Empty when the binary can run as kNobodyId and read `readable` (a folder
+// or file the run needs), otherwise why not (used for GTEST_SKIP: no test
+// that cannot fail).
+inline std::string CannotRunAsNobody(const fs::path& readable) {
+  if (!Succeeds("command -v setpriv")) return "setpriv (util-linux) missing";
+  if (!Succeeds(DropToNobody() + "true")) {
+    return "setpriv cannot switch to uid 65534 here (no CAP_SETUID?)";
+  }
+  if (!Succeeds(DropToNobody() + Quote(FIGURA_BINARY) + " --version")) {
+    return std::string("uid 65534 cannot run ") + FIGURA_BINARY +
+           " (a folder on its path is not searchable)";
+  }
+  if (!Succeeds(DropToNobody() + "test -r " + Quote(readable))) {
+    return "uid 65534 cannot read " + readable.string();
+  }
+  return {};
+}
+
+// Bounds of one run: wall time (killed after it) and address space (a cap
+// on virtual memory, so any huge allocation fails instead of swapping).
+struct RunBounds {
+  int seconds = 120;
+  long long address_space_bytes = 3LL << 30;
+  bool as_nobody = false;  // drop to kNobodyId (see CannotRunAsNobody)
+};
+
+// Exit code `timeout -s KILL` reports for a killed run (128 + SIGKILL).
+inline constexpr int kKilledByTimeout = 137;
+
+// Runs `figura ARGS` under `timeout` and `prlimit --as` (coreutils,
+// util-linux), capturing as RunFigura. A run that hits the time bound
+// exits kKilledByTimeout; one that overruns the memory cap gets a failed
+// allocation.
+inline CommandOutcome RunFiguraBounded(const std::string& args,
+                                       const fs::path& capture_dir,
+                                       const RunBounds& bounds) {
+  fs::create_directories(capture_dir);
+  const fs::path out = capture_dir / "stdout.txt";
+  const fs::path err = capture_dir / "stderr.txt";
+  std::string command =
+      "timeout -s KILL " + std::to_string(bounds.seconds) +
+      " prlimit --as=" + std::to_string(bounds.address_space_bytes) + " -- ";
+  if (bounds.as_nobody) command += DropToNobody();
+  command += Quote(FIGURA_BINARY);
+  command += ' ';
+  command += args;
+  command += " >" + Quote(out) + " 2>" + Quote(err) + " </dev/null";
+  const int status = std::system(command.c_str());
+  CommandOutcome run;
+  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+  run.out = ReadFile(out);
+  run.err = ReadFile(err);
+  return run;
+}
+
+// The words "nan", "inf" or "infinity" (any case, as whole words, with an
+// optional sign) in a text: a non-finite number printed as text. Returns
+// each hit with a little context.
+inline std::vector<std::string> NonFiniteTokens(const std::string& text) {
+  static const std::regex kToken(
+      R"((^|[^A-Za-z0-9_])[-+]?(nan|inf|infinity)([^A-Za-z0-9_]|$))",
+      std::regex::icase);
+  std::vector<std::string> hits;
+  for (auto it = std::sregex_iterator(text.begin(), text.end(), kToken);
+       it != std::sregex_iterator(); ++it) {
+    const auto at = static_cast<std::size_t>(it->position());
+    const std::size_t from = at > 30 ? at - 30 : 0;
+    hits.push_back(text.substr(from, 70));
+  }
+  return hits;
+}
+
+// Files in `dir` (recursively) whose names contain ".tmp-": temporaries an
+// atomic write left behind.
+inline std::vector<std::string> LeftoverTemps(const fs::path& dir) {
+  std::vector<std::string> found;
+  std::error_code ec;
+  for (fs::recursive_directory_iterator it(dir, ec), end; !ec && it != end;
+       it.increment(ec)) {
+    const std::string name = it->path().filename().string();
+    if (name.find(".tmp-") != std::string::npos)
+      found.push_back(it->path().string());
+  }
+  return found;
 }
 
 }  // namespace figura::e2e

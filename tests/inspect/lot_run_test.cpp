@@ -256,5 +256,24 @@ TEST_F(LotRunTest, ManifestContactOverridesTheJobPerPart) {
   EXPECT_LT(p["part_radius_mm"].get<double>(), 100.0);
 }
 
+// A folder contributes every entry named like an image, also those that
+// are not regular files (a folder, a looping link): they become error rows
+// rather than vanishing from the lot. Other names are left out.
+TEST(ExpandInputs, EveryImageNamedEntryOfAFolder) {
+  const fs::path dir = fs::path(FIGURA_TEST_TMP) /
+                       ("expand_inputs_" + std::to_string(::getpid()));
+  fs::remove_all(dir);
+  fs::create_directories(dir / "b.tif");
+  std::ofstream(dir / "a.png") << "x";
+  std::ofstream(dir / "notes.txt") << "x";
+  fs::create_symlink("c.jpg", dir / "c.jpg");  // a link to itself
+  const std::vector<std::string> files = ExpandInputs({dir.string()});
+  const std::vector<std::string> expected = {(dir / "a.png").string(),
+                                             (dir / "b.tif").string(),
+                                             (dir / "c.jpg").string()};
+  EXPECT_EQ(files, expected);
+  fs::remove_all(dir);
+}
+
 }  // namespace
 }  // namespace figura

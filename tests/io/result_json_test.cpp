@@ -55,6 +55,18 @@ TEST(ResultJson, NonFiniteBecomesNull) {
   EXPECT_EQ(FiniteOrNull(0.0).get<double>(), 0.0);
 }
 
+// A hash read back from a part file may be null (an unreadable input):
+// StringOr gives "" instead of throwing nlohmann's type_error.302.
+TEST(ResultJson, StringOrToleratesNullAndOtherTypes) {
+  const nlohmann::json j = {{"sha256", nullptr}, {"n", 3}, {"s", "abc"}};
+  EXPECT_EQ(StringOr(j, "sha256"), "");
+  EXPECT_EQ(StringOr(j, "n"), "");
+  EXPECT_EQ(StringOr(j, "missing"), "");
+  EXPECT_EQ(StringOr(j, "s"), "abc");
+  EXPECT_EQ(StringOr(nlohmann::json::array(), "s"), "");
+  EXPECT_THROW((void)j.value("sha256", ""), nlohmann::json::type_error);
+}
+
 TEST(ResultJson, WritesFileAndStdout) {
   const fs::path dir = io_test::ScratchDir("result_json");
   const nlohmann::json value = {{"radius_of_curvature_mm", 51.68},
