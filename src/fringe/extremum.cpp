@@ -21,7 +21,9 @@ namespace {
 
 constexpr double kTwoPi = 2.0 * std::numbers::pi;
 
-// One weighted least-squares pass over the window centred on s0.
+// One weighted least-squares pass over the window centred on s0. The basis
+// (1, cos 2 pi x, sin 2 pi x[, x]) of each sample is evaluated once and kept
+// for the residuals.
 ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
                     std::span<const double> weight, double s0, double period,
                     bool minimum, const ExtremumFitOptions& options) {
@@ -31,10 +33,18 @@ ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
   const auto end = std::upper_bound(s.begin(), s.end(), s0 + half);
   const auto first = static_cast<std::size_t>(begin - s.begin());
   const auto last = static_cast<std::size_t>(end - s.begin());
-  const int parameters = options.fit_slope ? 5 : 4;
-  Eigen::Matrix<double, 5, 5> normal = Eigen::Matrix<double, 5, 5>::Zero();
-  Eigen::Matrix<double, 5, 1> rhs = Eigen::Matrix<double, 5, 1>::Zero();
-  int used = 0;
+  // Unknowns b, a, d (and c with the slope). The residual degrees of
+  // freedom subtract one more than the unknowns, as this fit always has
+  // (a slightly conservative noise estimate).
+  const int unknowns = options.fit_slope ? 4 : 3;
+  const int parameters = unknowns + 1;
+  struct Sample {
+    double w, v, cos_u, sin_u, x;
+  };
+  std::vector<Sample> used_samples;
+  used_samples.reserve(last - first);
+  Eigen::Matrix4d normal = Eigen::Matrix4d::Zero();
+  Eigen::Vector4d rhs = Eigen::Vector4d::Zero();
   double x_min = 1.0;
   double x_max = -1.0;
   double weight_sum = 0.0;
@@ -42,39 +52,39 @@ ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
     const double w = weight[i];
     if (!(w > 0.0) || !std::isfinite(value[i])) continue;
     const double x = (s[i] - s0) / period;
-    Eigen::Matrix<double, 5, 1> basis;
-    basis << 1.0, std::cos(kTwoPi * x), std::sin(kTwoPi * x), x, 0.0;
-    normal += w * basis * basis.transpose();
-    rhs += w * value[i] * basis;
+    const Sample sample{w, value[i], std::cos(kTwoPi * x), std::sin(kTwoPi * x),
+                        x};
+    const Eigen::Vector4d basis(1.0, sample.cos_u, sample.sin_u,
+                                options.fit_slope ? x : 0.0);
+    normal.selfadjointView<Eigen::Lower>().rankUpdate(basis, w);
+    rhs += (w * sample.v) * basis;
     weight_sum += w;
     x_min = std::min(x_min, x);
     x_max = std::max(x_max, x);
-    ++used;
+    used_samples.push_back(sample);
   }
+  const auto used = static_cast<int>(used_samples.size());
   fit.samples = used;
   fit.weight_sum = 0.0;
   if (used < std::max(options.min_samples, parameters + 2)) return fit;
   if (x_max - x_min < options.min_coverage) return fit;
-  const Eigen::MatrixXd a = normal.topLeftCorner(parameters, parameters);
-  const Eigen::VectorXd b = rhs.head(parameters);
-  const Eigen::LDLT<Eigen::MatrixXd> ldlt(a);
+  normal = normal.selfadjointView<Eigen::Lower>();
+  if (!options.fit_slope) normal(3, 3) = 1.0;  // c fixed at 0 (rhs(3) = 0)
+  const Eigen::LDLT<Eigen::Matrix4d> ldlt(normal);
   if (ldlt.info() != Eigen::Success) return fit;
-  const Eigen::VectorXd coefficients = ldlt.solve(b);
+  const Eigen::Vector4d coefficients = ldlt.solve(rhs);
   // Residuals.
   double residual_sum = 0.0;
-  for (std::size_t i = first; i < last; ++i) {
-    const double w = weight[i];
-    if (!(w > 0.0) || !std::isfinite(value[i])) continue;
-    const double x = (s[i] - s0) / period;
-    double model = coefficients(0) + coefficients(1) * std::cos(kTwoPi * x) +
-                   coefficients(2) * std::sin(kTwoPi * x);
-    if (options.fit_slope) model += coefficients(3) * x;
-    const double r = value[i] - model;
-    residual_sum += w * r * r;
+  for (const Sample& sample : used_samples) {
+    const double model = coefficients(0) + coefficients(1) * sample.cos_u +
+                         coefficients(2) * sample.sin_u +
+                         coefficients(3) * sample.x;
+    const double r = sample.v - model;
+    residual_sum += sample.w * r * r;
   }
   const double variance = residual_sum / static_cast<double>(used - parameters);
-  const Eigen::MatrixXd covariance =
-      variance * ldlt.solve(Eigen::MatrixXd::Identity(parameters, parameters));
+  const Eigen::Matrix4d covariance =
+      variance * ldlt.solve(Eigen::Matrix4d::Identity());
   const double ca = coefficients(1);
   const double cd = coefficients(2);
   const double amplitude2 = ca * ca + cd * cd;
@@ -87,8 +97,7 @@ ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
   fit.position = s0 + u / kTwoPi * period;
   fit.sigma = std::sqrt(std::max(var_u, 0.0)) / kTwoPi * period;
   fit.amplitude = std::sqrt(amplitude2);
-  fit.offset = coefficients(0) +
-               (options.fit_slope ? coefficients(3) * u / kTwoPi : 0.0);
+  fit.offset = coefficients(0) + coefficients(3) * u / kTwoPi;
   fit.noise = std::sqrt(variance * static_cast<double>(used) / weight_sum);
   fit.weight_sum = weight_sum;
   fit.ok = std::isfinite(fit.position) && std::isfinite(fit.sigma);

@@ -13,21 +13,39 @@ namespace figura {
 
 namespace {
 
-// atan2 to about 1e-5 rad: the polynomial of Abramowitz & Stegun 4.4.49
-// for |z| <= 1, extended to all octants. Sector assignment needs far less.
-inline double FastAtan2(double y, double x) {
-  const double ax = std::abs(x);
-  const double ay = std::abs(y);
-  if (ax == 0.0 && ay == 0.0) return 0.0;
-  const bool swap = ay > ax;
-  const double z = swap ? ax / ay : ay / ax;
-  const double z2 = z * z;
-  double a = z * (0.9998660 +
-                  z2 * (-0.3302995 +
-                        z2 * (0.1801410 + z2 * (-0.0851330 + z2 * 0.0208351))));
-  if (swap) a = 0.5 * std::numbers::pi - a;
-  if (x < 0.0) a = std::numbers::pi - a;
-  return y < 0.0 ? -a : a;
+// Values accumulated per (sector, bin), interleaved so that one pixel
+// touches one small block: count, sum of values, sum of r^2, sum of dx, sum
+// of dy.
+constexpr std::size_t kFields = 5;
+
+// The first pixels of the runs of constant sector along the row [x0, x1]
+// at offset dy from the centre (x0 first). The azimuth atan2(dy, x - cx)
+// changes monotonically along a row, so a run ends only where the row
+// crosses a sector boundary ray (at x = cx + dy cos(b) / sin(b), for the
+// boundaries b with sin(b) of the sign of dy) or, on the row through the
+// centre itself, at x = cx (azimuth pi to 0).
+void RunStarts(double cx, double dy, int x0, int x1,
+               const std::vector<double>& boundary_cos,
+               const std::vector<double>& boundary_sin,
+               std::vector<int>& starts) {
+  starts.clear();
+  starts.push_back(x0);
+  const auto add = [&](double crossing) {
+    // Pixels at or beyond the crossing begin the next run.
+    if (!(crossing > x0 && crossing <= x1)) return;
+    starts.push_back(static_cast<int>(std::ceil(crossing)));
+  };
+  if (dy == 0.0) {
+    add(cx);
+  } else {
+    for (std::size_t j = 0; j < boundary_cos.size(); ++j) {
+      const double s = boundary_sin[j];
+      if (s * dy <= 0.0 || std::abs(s) < 1e-12) continue;
+      add(cx + dy * boundary_cos[j] / s);
+    }
+  }
+  std::sort(starts.begin(), starts.end());
+  starts.erase(std::unique(starts.begin(), starts.end()), starts.end());
 }
 
 }  // namespace
@@ -62,7 +80,8 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
   out.count.assign(total, 0.0);
   out.sum.assign(total, 0.0);
   out.sum_r2.assign(total, 0.0);
-  out.sum_angle.assign(total, 0.0);
+  out.sum_dx.assign(total, 0.0);
+  out.sum_dy.assign(total, 0.0);
 
   const int y_begin =
       std::max(0, static_cast<int>(std::ceil(region.centre.y - region.radius)));
@@ -72,19 +91,32 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
   if (y_end <= y_begin) return out;
   const double sector_width = 2.0 * std::numbers::pi / sectors;
   const double inverse_bin = 1.0 / bin_width_px2;
-  const double inverse_sector = 1.0 / sector_width;
+  // Sector boundary rays: sector k spans [b_k, b_{k+1}) with
+  // b_k = (k - 1/2) 2 pi / S.
+  std::vector<double> boundary_cos;
+  std::vector<double> boundary_sin;
+  if (sectors > 1) {
+    for (int k = 0; k < sectors; ++k) {
+      const double b = (k - 0.5) * sector_width;
+      boundary_cos.push_back(std::cos(b));
+      boundary_sin.push_back(std::sin(b));
+    }
+  }
   std::mutex merge;
   const int stripes = std::clamp(cv::getNumThreads(), 1, 8);
   // Parallel over the used rows y_begin + i * row_step.
   const int used_rows = (y_end - y_begin + row_step - 1) / row_step;
+  const int bins = out.bins;
   cv::parallel_for_(
       cv::Range(0, used_rows),
       [&](const cv::Range& rows) {
         std::vector<float> row(static_cast<std::size_t>(size.width));
-        // Interleaved per bin (count, sum, sum_r2, sum_angle): one cache
-        // line per pixel update instead of four (consecutive pixels of a
-        // row mostly fall into different bins).
-        std::vector<std::array<double, 4>> acc(total, {0.0, 0.0, 0.0, 0.0});
+        std::vector<int> starts;
+        starts.reserve(static_cast<std::size_t>(sectors) + 2);
+        // Interleaved per bin (kFields values): one small block per pixel
+        // update instead of five arrays (consecutive pixels of a row mostly
+        // fall into different bins).
+        std::vector<double> acc(total * kFields, 0.0);
         for (int used = rows.start; used < rows.end; ++used) {
           const int y = y_begin + used * row_step;
           int x0 = 0;
@@ -93,39 +125,52 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
           if (x1 < x0) continue;
           values(y, x0, x1, row.data());
           const double dy = y - centre.y;
-          for (int x = x0; x <= x1; ++x) {
-            const double dx = x - centre.x;
-            const double r2 = dx * dx + dy * dy;
-            const int bin = static_cast<int>(r2 * inverse_bin);
-            if (bin >= out.bins) continue;
-            // Azimuth in [0, 2 pi), shifted by half a sector so that sector
-            // k is centred on 2 pi k / S.
+          const double dy2 = dy * dy;
+          if (sectors > 1) {
+            RunStarts(centre.x, dy, x0, x1, boundary_cos, boundary_sin, starts);
+          } else {
+            starts.assign(1, x0);
+          }
+          for (std::size_t r = 0; r < starts.size(); ++r) {
+            const int a = starts[r];
+            const int b = r + 1 < starts.size() ? starts[r + 1] - 1 : x1;
+            // The run's sector from the exact azimuth of its middle pixel
+            // (no boundary lies inside a run), shifted by half a sector so
+            // that sector k is centred on 2 pi k / S.
             int sector = 0;
-            double offset = 0.0;
             if (sectors > 1) {
-              double angle = FastAtan2(dy, dx) + 0.5 * sector_width;
+              double angle =
+                  std::atan2(dy, 0.5 * (a + b) - centre.x) + 0.5 * sector_width;
               if (angle < 0.0) angle += 2.0 * std::numbers::pi;
-              sector = std::min(static_cast<int>(angle * inverse_sector),
-                                sectors - 1);
-              offset = angle - (sector + 0.5) * sector_width;
+              sector =
+                  std::min(static_cast<int>(angle / sector_width), sectors - 1);
             }
-            const std::size_t i =
-                static_cast<std::size_t>(sector) * out.bins + bin;
-            std::array<double, 4>& a = acc[i];
-            a[0] += 1.0;
-            a[1] += static_cast<double>(row[static_cast<std::size_t>(x)]);
-            a[2] += r2;
-            a[3] += offset;
+            double* base = acc.data() + static_cast<std::size_t>(sector) *
+                                            static_cast<std::size_t>(bins) *
+                                            kFields;
+            for (int x = a; x <= b; ++x) {
+              const double dx = x - centre.x;
+              const double r2 = dx * dx + dy2;
+              const int bin = static_cast<int>(r2 * inverse_bin);
+              if (bin >= bins) continue;
+              double* at = base + static_cast<std::size_t>(bin) * kFields;
+              at[0] += 1.0;
+              at[1] += static_cast<double>(row[static_cast<std::size_t>(x)]);
+              at[2] += r2;
+              at[3] += dx;
+              at[4] += dy;
+            }
           }
         }
         const std::lock_guard<std::mutex> lock(merge);
         for (std::size_t i = 0; i < total; ++i) {
-          const std::array<double, 4>& a = acc[i];
-          if (a[0] == 0.0) continue;
-          out.count[i] += a[0];
-          out.sum[i] += a[1];
-          out.sum_r2[i] += a[2];
-          out.sum_angle[i] += a[3];
+          const double* at = acc.data() + i * kFields;
+          if (at[0] == 0.0) continue;
+          out.count[i] += at[0];
+          out.sum[i] += at[1];
+          out.sum_r2[i] += at[2];
+          out.sum_dx[i] += at[3];
+          out.sum_dy[i] += at[4];
         }
       },
       stripes);
@@ -139,24 +184,28 @@ R2Profile ExtractProfile(const SectorProfiles& profiles, int sector) {
   out.r2.reserve(static_cast<std::size_t>(profiles.bins));
   out.value.reserve(static_cast<std::size_t>(profiles.bins));
   out.weight.reserve(static_cast<std::size_t>(profiles.bins));
-  out.angle.reserve(static_cast<std::size_t>(profiles.bins));
+  out.dx.reserve(static_cast<std::size_t>(profiles.bins));
+  out.dy.reserve(static_cast<std::size_t>(profiles.bins));
   for (int b = 0; b < profiles.bins; ++b) {
     double count = 0.0;
     double sum = 0.0;
     double sum_r2 = 0.0;
-    double sum_angle = 0.0;
+    double sum_dx = 0.0;
+    double sum_dy = 0.0;
     for (int k = first; k <= last; ++k) {
       const std::size_t i = profiles.At(k, b);
       count += profiles.count[i];
       sum += profiles.sum[i];
       sum_r2 += profiles.sum_r2[i];
-      sum_angle += profiles.sum_angle[i];
+      sum_dx += profiles.sum_dx[i];
+      sum_dy += profiles.sum_dy[i];
     }
     if (count <= 0.0) continue;
     out.r2.push_back(sum_r2 / count);
     out.value.push_back(sum / count);
     out.weight.push_back(count);
-    out.angle.push_back(sum_angle / count);
+    out.dx.push_back(sum_dx / count);
+    out.dy.push_back(sum_dy / count);
   }
   return out;
 }

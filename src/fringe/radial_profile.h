@@ -20,9 +20,9 @@ struct SectorProfiles {
   double bin_width_px2 = 0.0;
   int bins = 0;
   int sectors = 0;
-  // Per (sector * bins + bin): pixel count, sum of values, sum of r^2, sum
-  // of the azimuth offset from the sector's mid azimuth (rad).
-  std::vector<double> count, sum, sum_r2, sum_angle;
+  // Per (sector * bins + bin): pixel count, sum of values, sum of r^2 (px^2),
+  // sums of the pixel offsets x - cx and y - cy from the centre (px).
+  std::vector<double> count, sum, sum_r2, sum_dx, sum_dy;
 
   // Index into the arrays.
   [[nodiscard]] std::size_t At(int sector, int bin) const {
@@ -32,9 +32,11 @@ struct SectorProfiles {
 };
 
 // One profile as arrays for fitting: mean r^2 (px^2), mean value and pixel
-// count of each non-empty bin, in increasing r^2; mean azimuth offset too.
+// count of each non-empty bin, in increasing r^2; the mean pixel offsets
+// x - cx and y - cy (px) of each bin too (their direction is the bin's mean
+// azimuth).
 struct R2Profile {
-  std::vector<double> r2, value, weight, angle;
+  std::vector<double> r2, value, weight, dx, dy;
 };
 
 // Supplies the values of image row y, columns [x0, x1], into out[x0..x1]

@@ -17,10 +17,12 @@ namespace figura {
 
 namespace {
 
+// Samples a robust scale needs at most.
+constexpr std::size_t kMedianSamples = 32768;
+
 // Median of `values`; of an evenly strided subset of about kMedianSamples
 // of them when there are more (a robust scale needs no more).
 double Median(std::vector<double> values) {
-  constexpr std::size_t kMedianSamples = 32768;
   if (values.empty()) return 0.0;
   if (values.size() > 2 * kMedianSamples) {
     const std::size_t stride = values.size() / kMedianSamples;
@@ -105,30 +107,42 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
     if (!(out.conditioning > 1e-4)) return out;
     const Eigen::Vector2d c = a.ldlt().solve(b);
     centre = cv::Point2d(c(0), c(1));
-    std::vector<double> distances;
-    distances.reserve(lines.size());
+    // Distances of the lines from the centre; the robust scale is the
+    // median of an evenly strided subset (every stride-th of the lines
+    // still kept, as Median would take it), collected without copying all.
+    const auto distance = [&centre](const Line& line) {
+      return std::abs(line.nx * (centre.x - line.px) +
+                      line.ny * (centre.y - line.py));
+    };
+    const std::size_t kept_before = std::isfinite(previous_scale)
+                                        ? static_cast<std::size_t>(out.lines)
+                                        : lines.size();
+    const std::size_t stride =
+        kept_before > 2 * kMedianSamples ? kept_before / kMedianSamples : 1;
     std::vector<double> kept_distances;
+    kept_distances.reserve(kept_before / stride + 1);
+    std::size_t kept_index = 0;
     for (std::size_t i = 0; i < lines.size(); ++i) {
-      const Line& line = lines[i];
-      distances.push_back(std::abs(line.nx * (centre.x - line.px) +
-                                   line.ny * (centre.y - line.py)));
-      if (robust[i] > 0.0) kept_distances.push_back(distances.back());
+      if (!(robust[i] > 0.0)) continue;
+      if (kept_index++ % stride == 0)
+        kept_distances.push_back(distance(lines[i]));
     }
     // Annealed scale: the robust spread of the lines still kept, shrinking
     // at most by half per pass, so that a majority of stray lines (fringes
-    // too fine for this resolution, noise) cannot pin the scale.
+    // too fine for this resolution, noise) cannot pin the scale. (On the
+    // first pass every line is kept.)
     scale = std::max(1.4826 * Median(kept_distances), 0.05);
-    scale = std::max(scale, 0.5 * std::min(previous_scale, 1e300));
-    if (!std::isfinite(previous_scale))
-      scale = std::max(1.4826 * Median(distances), 0.05);
+    if (std::isfinite(previous_scale))
+      scale = std::max(scale, 0.5 * previous_scale);
     const double cut = 4.685 * scale;
     int kept = 0;
     double inlier_weight = 0.0;
     for (std::size_t i = 0; i < lines.size(); ++i) {
-      const double u = distances[i] / cut;
+      const double d = distance(lines[i]);
+      const double u = d / cut;
       robust[i] = u < 1.0 ? (1.0 - u * u) * (1.0 - u * u) : 0.0;
       kept += u < 1.0 ? 1 : 0;
-      if (distances[i] < 2.0) inlier_weight += lines[i].w;
+      if (d < 2.0) inlier_weight += lines[i].w;
     }
     out.lines = kept;
     out.inlier_fraction = inlier_weight / total_weight;
@@ -369,8 +383,15 @@ CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
     }
     centre += cv::Point2d(move(0) * step, move(1) * step);
     out.sharpness = f(best);
-    // Shrink only when the optimum lies inside the grid.
-    if (move.norm() <= 1.0) step *= 0.5;
+    // Shrink only when the optimum lies inside the grid; by 4 when the
+    // vertex lies within a quarter step of the grid centre (the next grid,
+    // of step h / 4, still spans it).
+    const double moved = move.norm();
+    if (moved <= 0.25) {
+      step *= 0.25;
+    } else if (moved <= 1.0) {
+      step *= 0.5;
+    }
     if (out.evaluations > 400) break;
   }
   out.centre = centre;

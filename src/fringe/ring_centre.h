@@ -69,7 +69,8 @@ struct CentreRefinement {
 
 // Maximises ProfileSharpness over the centre: a 3 x 3 grid of step h about
 // the current centre, a least-squares quadratic surface through it, a move
-// to its vertex (limited to 2 h), and h halved, from start_step_px down to
+// to its vertex (limited to 2 h), and h halved (quartered when the vertex
+// lies within h / 4 of the grid centre), from start_step_px down to
 // stop_step_px. [practice: coarse-to-fine quadratic-model search]
 CentreRefinement RefineCentreBySharpness(const PixelSamples& samples,
                                          cv::Point2d start,

@@ -53,9 +53,10 @@ constexpr double kTwoPi = 2.0 * std::numbers::pi;
 constexpr int kBinsPerPeriod = 24;
 // Largest working size for the coarse steps (aperture, gradient centre).
 constexpr int kWorkingSize = 640;
-// Evaluated apertures of more pixels than this use every other row before
-// the final sector profiles (the 12 MP benchmark photo has ~5.4 M).
-constexpr int kCoarseRowsAbove = 1500000;
+// Pixels kept (at least) by the steps before the final sector profiles:
+// pixel-rich photographs use every n-th row there, n = inside / this (the
+// 12 MP benchmark photo has ~5.4 M pixels inside: every 4th row).
+constexpr int kCoarsePixels = 1200000;
 // Pixels used in the sharpness refinement at most.
 constexpr double kRefinementSamples = 400000.0;
 
@@ -236,11 +237,20 @@ Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
 
   // 9. Fringe centres in every sector, tracked outward.
   const double sector_width = kTwoPi / sector_count;
-  const double expected_window_pixels = 0.5 * sector_width * period;
-  int rejected = 0;
-  for (int k = 0; k < sector_count; ++k) {
+  // Pixels expected in a half-period window of one sector (of the rows
+  // used).
+  const double expected_window_pixels = 0.5 * sector_width * period / row_step;
+  // Sectors are independent: located in parallel, each into its own slot,
+  // then joined in sector order (the result does not depend on threads).
+  std::vector<std::vector<FringePoint>> sector_points(
+      static_cast<std::size_t>(sector_count));
+  std::vector<int> sector_rejected(static_cast<std::size_t>(sector_count), 0);
+  const auto locate_in_sector = [&](int k) {
+    std::vector<FringePoint>& points =
+        sector_points[static_cast<std::size_t>(k)];
+    int& rejected = sector_rejected[static_cast<std::size_t>(k)];
     const R2Profile profile = ExtractProfile(sectors, k);
-    if (profile.r2.size() < static_cast<std::size_t>(kBinsPerPeriod)) continue;
+    if (profile.r2.size() < static_cast<std::size_t>(kBinsPerPeriod)) return;
     const double half = 0.5 * period;
     const int i_first =
         static_cast<int>(std::ceil((profile.r2.front() + half - s0) / half));
@@ -272,9 +282,10 @@ Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
       last_delta = delta;
       last_index = i;
       ++accepted;
-      // Mean azimuth of the pixels near the extremum.
-      double angle_sum = 0.0;
-      double angle_weight = 0.0;
+      // Mean azimuth of the pixels near the extremum: the direction of
+      // their mean offset from the centre.
+      double dx_sum = 0.0;
+      double dy_sum = 0.0;
       // (r2 increases along the profile: only the bins within a quarter
       // period are visited.)
       const auto near_begin = std::lower_bound(
@@ -283,12 +294,13 @@ Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
            b < profile.r2.size() &&
            profile.r2[b] <= fit.position + 0.25 * period;
            ++b) {
-        angle_sum += profile.weight[b] * profile.angle[b];
-        angle_weight += profile.weight[b];
+        dx_sum += profile.weight[b] * profile.dx[b];
+        dy_sum += profile.weight[b] * profile.dy[b];
       }
       FringePoint point;
-      point.angle_rad = k * sector_width +
-                        (angle_weight > 0.0 ? angle_sum / angle_weight : 0.0);
+      point.angle_rad = dx_sum != 0.0 || dy_sum != 0.0
+                            ? std::atan2(dy_sum, dx_sum)
+                            : k * sector_width;
       if (point.angle_rad > std::numbers::pi) point.angle_rad -= kTwoPi;
       point.radius_px = std::sqrt(fit.position);
       point.sigma_px = fit.sigma / (2.0 * point.radius_px);
@@ -297,8 +309,17 @@ Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
       point.kind = dark ? FringeState::kDark : FringeState::kBright;
       point.index = i;
       point.sector = k;
-      out.points.push_back(point);
+      points.push_back(point);
     }
+  };
+  cv::parallel_for_(cv::Range(0, sector_count), [&](const cv::Range& range) {
+    for (int k = range.start; k < range.end; ++k) locate_in_sector(k);
+  });
+  int rejected = 0;
+  for (int k = 0; k < sector_count; ++k) {
+    const auto& points = sector_points[static_cast<std::size_t>(k)];
+    out.points.insert(out.points.end(), points.begin(), points.end());
+    rejected += sector_rejected[static_cast<std::size_t>(k)];
   }
   if (out.points.size() < 6) {
     return Failed("too few fringe points could be located in the sectors");
@@ -548,8 +569,9 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   clock.Lap("gradient centre");
   // Pixel-rich photographs: the steps before the final sector profiles
   // (period, first sector profiles, whose points only serve the centre) use
-  // every other row; smaller ones use all rows.
-  const int coarse_rows = inside > kCoarseRowsAbove ? 2 : 1;
+  // every n-th row, keeping at least kCoarsePixels pixels; smaller ones use
+  // all rows.
+  const int coarse_rows = std::max(1, inside / kCoarsePixels);
 
   // 5. Period in r^2 from the spectrum of the azimuthal mean profile.
   const double far = cv::norm(region.centre - centre) + region.radius;
@@ -575,8 +597,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   // 6. Refine the centre: sharpest azimuthal-mean profile.
   {
     const int stride = std::max(
-        1,
-        static_cast<int>(std::floor(std::sqrt(inside / kRefinementSamples))));
+        1, static_cast<int>(std::ceil(std::sqrt(inside / kRefinementSamples))));
     const PixelSamples samples =
         SamplePixels(normalised, image.size(), region, stride);
     const CentreRefinement refined = RefineCentreBySharpness(
