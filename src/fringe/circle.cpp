@@ -20,6 +20,9 @@ void RowSpan(const Circle& c, int y, int cols, int& x0, int& x1) {
 CircleFit FitCircleAlgebraic(std::span<const cv::Point2d> points) {
   CircleFit fit;
   if (points.size() < 3) return fit;
+  for (const auto& p : points) {
+    if (!std::isfinite(p.x) || !std::isfinite(p.y)) return fit;
+  }
   // Centre the data for conditioning.
   cv::Point2d mean(0.0, 0.0);
   for (const auto& p : points) mean += p;

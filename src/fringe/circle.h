@@ -31,7 +31,7 @@ struct CircleFit {
 
 // Algebraic (Kasa) circle fit: least squares of x^2 + y^2 + D x + E y + F = 0
 // (I. Kasa, IEEE Trans. Instrum. Meas. 25, 8, 1976). Not ok for fewer than 3
-// points or collinear points.
+// points, collinear or coincident points, or a non-finite coordinate.
 CircleFit FitCircleAlgebraic(std::span<const cv::Point2d> points);
 
 // Geometric circle fit: Gauss-Newton on the distances |p - c| - r, started
