@@ -14,7 +14,8 @@ namespace {
 
 Image Filled(int w, int h, float value, double full_scale, bool is_float) {
   Image image;
-  image.pixels = cv::Mat(h, w, CV_32FC1, cv::Scalar(value));
+  image.pixels =
+      cv::Mat(h, w, CV_32FC1, cv::Scalar(static_cast<double>(value)));
   image.info.path = "ow117/part.tif";
   image.info.width = w;
   image.info.height = h;

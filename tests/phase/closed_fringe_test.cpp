@@ -157,7 +157,7 @@ TEST(ClosedFringe, AstigmaticTestPlateBothContacts) {
 }
 
 TEST(ClosedFringe, UniformImageIsAnErrorWithAReason) {
-  const cv::Mat flat(300, 300, CV_32F, cv::Scalar(1000.0F));
+  const cv::Mat flat(300, 300, CV_32F, cv::Scalar(1000.0));
   ClosedFringeOptions o;
   const ClosedFringeResult r = TraceClosedFringes(flat, o);
   EXPECT_EQ(r.status, Status::kError);

@@ -158,8 +158,8 @@ double MapRmsError(const cv::Mat& map, const cv::Mat& truth) {
   long n = 0;
   for (int y = 0; y < map.rows; ++y) {
     for (int x = 0; x < map.cols; ++x) {
-      const double a = map.at<float>(y, x);
-      const double b = truth.at<float>(y, x);
+      const double a = static_cast<double>(map.at<float>(y, x));
+      const double b = static_cast<double>(truth.at<float>(y, x));
       if (!std::isfinite(a) || !std::isfinite(b)) continue;
       s += a - b;
       ss += (a - b) * (a - b);
@@ -271,7 +271,7 @@ TEST(SurfaceMap, ClosedFringesWithoutContactStateTheAssumption) {
 
 TEST(SurfaceMap, UniformImageHasNoFringes) {
   Image image;
-  image.pixels = cv::Mat(400, 400, CV_32F, cv::Scalar(20.0F));
+  image.pixels = cv::Mat(400, 400, CV_32F, cv::Scalar(20.0));
   cv::circle(image.pixels, {200, 200}, 150, cv::Scalar(30000.0), cv::FILLED);
   image.info.full_scale = 65535.0;
   MapOptions o;
@@ -285,7 +285,7 @@ TEST(SurfaceMap, UniformImageHasNoFringes) {
 TEST(SurfaceMap, AliasedFringesAreAnError) {
   // Straight fringes of 2.6 px period: under the ~3 px a carrier needs.
   Image image;
-  image.pixels = cv::Mat(400, 400, CV_32F, cv::Scalar(20.0F));
+  image.pixels = cv::Mat(400, 400, CV_32F, cv::Scalar(20.0));
   for (int y = 0; y < 400; ++y) {
     for (int x = 0; x < 400; ++x) {
       if (std::hypot(x - 200.0, y - 200.0) > 160.0) continue;
