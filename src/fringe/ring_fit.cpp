@@ -159,6 +159,11 @@ std::string RingFitOptions::Check() const {
   if (!(std::isfinite(pixel_pitch.metres) && pixel_pitch.metres > 0.0)) {
     return "--pixel-pitch must be positive";
   }
+  if (pixel_pitch.metres < kMinPixelPitchM ||
+      pixel_pitch.metres > kMaxPixelPitchM) {
+    return "--pixel-pitch must lie between 1 nm and 1 m (the object-side "
+           "size of one pixel)";
+  }
   if (!(std::isfinite(pixel_pitch_u.metres) && pixel_pitch_u.metres >= 0.0)) {
     return "--pixel-pitch-u must be zero or positive";
   }
@@ -490,6 +495,14 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   out.gap_radius_m = gap_radius;
   const double r_part = 1.0 / (1.0 / gap_radius + 1.0 / r_ref);
   out.radius_m = r_part;
+  // Absurd lengths (e.g. a pixel pitch of 1e200 m) overflow or underflow
+  // the radius: an error with a reason, never a result without a radius.
+  if (!std::isfinite(r_part) || r_part == 0.0) {
+    return fail(
+        "the fit gives no finite radius of curvature (it over- or "
+        "underflows: check --pixel-pitch, the wavelength and "
+        "--reference-radius)");
+  }
   out.centre_px = {centre_guess_px.x + scale * xc,
                    centre_guess_px.y + scale * yc};
   const double value_c = Evaluate(q, xc, yc);

@@ -44,6 +44,11 @@
 
 namespace figura {
 
+// Accepted range of the object-side pixel pitch (m): wider than any camera
+// and lens but keeps the radius (proportional to pitch^2) finite.
+inline constexpr double kMinPixelPitchM = 1e-9;
+inline constexpr double kMaxPixelPitchM = 1.0;
+
 // Settings of the ring model fit.
 struct RingFitOptions {
   Wavelength

@@ -416,6 +416,69 @@ TEST(RingFit, BadInput) {
   EXPECT_EQ(ParseContact("center"), Contact::kCentre);
 }
 
+// Degenerate point sets give an error with a reason, never a number from
+// a singular system: zero (or non-finite) point uncertainties, all points
+// on one ray from the centre (collinear: one sector), and all points at the
+// centre. NaN points among good ones are skipped and do not spread.
+TEST(RingFit, DegeneratePointSetsAreErrors) {
+  const Truth t;
+  const RingFitOptions o = OptionsFor(t);
+  auto expect_error = [](const RingFitResult& fit, const std::string& word) {
+    EXPECT_EQ(fit.status, Status::kError);
+    ASSERT_FALSE(fit.messages.empty());
+    EXPECT_NE(fit.messages.back().find(word), std::string::npos)
+        << fit.messages.back();
+  };
+  std::vector<RingFitPoint> zero_sigma = MakePoints(t);
+  for (RingFitPoint& p : zero_sigma) p.sigma_px = 0.0;
+  expect_error(FitRings(zero_sigma, o, Guess(t)), "too few fringe points");
+  std::vector<RingFitPoint> nan_sigma = MakePoints(t);
+  for (RingFitPoint& p : nan_sigma) p.sigma_px = std::nan("");
+  expect_error(FitRings(nan_sigma, o, Guess(t)), "too few fringe points");
+
+  Truth one_sector = t;
+  one_sector.sectors = 1;  // every point on one ray: collinear
+  expect_error(FitRings(MakePoints(one_sector), o, Guess(t)),
+               "do not determine the ring model");
+
+  std::vector<RingFitPoint> at_centre = MakePoints(t);
+  for (RingFitPoint& p : at_centre) {
+    p.x_px = Guess(t).x;
+    p.y_px = Guess(t).y;
+  }
+  expect_error(FitRings(at_centre, o, Guess(t)), "at the centre");
+
+  std::vector<RingFitPoint> some_nan = MakePoints(t);
+  for (std::size_t i = 0; i < some_nan.size(); i += 7) {
+    some_nan[i].x_px = std::numeric_limits<double>::quiet_NaN();
+  }
+  const RingFitResult fit = FitRings(some_nan, o, Guess(t));
+  EXPECT_NE(fit.status, Status::kError);
+  EXPECT_TRUE(std::isfinite(fit.radius_m));
+  EXPECT_NEAR(fit.radius_m, t.part_radius, 1e-6 * t.part_radius);
+}
+
+// Absurd pixel pitches are refused by Check (the radius scales with the
+// pitch squared and would overflow or underflow); the fit itself refuses a
+// radius that is not a finite, non-zero length.
+TEST(RingFit, AbsurdPitchIsRefused) {
+  const Truth t;
+  RingFitOptions o = OptionsFor(t);
+  o.pixel_pitch = Length::Metres(1e200);
+  EXPECT_NE(o.Check().find("between 1 nm and 1 m"), std::string::npos);
+  EXPECT_THROW(FitRings(MakePoints(t), o, Guess(t)), InputError);
+  o.pixel_pitch = Length::Metres(1e-200);
+  EXPECT_FALSE(o.Check().empty());
+  // A plate radius so small that the part radius underflows to zero.
+  RingFitOptions tiny = OptionsFor(t);
+  tiny.reference_radius = Length::Metres(-1e-320);
+  const RingFitResult fit = FitRings(MakePoints(t), tiny, Guess(t));
+  EXPECT_EQ(fit.status, Status::kError);
+  ASSERT_FALSE(fit.messages.empty());
+  EXPECT_NE(fit.messages.back().find("no finite radius"), std::string::npos)
+      << fit.messages.back();
+}
+
 TEST(RingFit, LiquidIndexWorkedExample) {
   // references.md: 10th ring diameter 14 mm in air, 12.7 mm with a liquid
   // -> n = 1.215 (r^2 ~ 1/n_gap).
