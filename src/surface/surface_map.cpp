@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "fringe/aperture.h"
+#include "fringe/ring_fit.h"
 #include "io/result_json.h"
 #include "surface/zernike.h"
 
@@ -313,6 +314,11 @@ std::string MapOptions::Check() const {
   if (pixel_pitch_m &&
       !(*pixel_pitch_m > 0.0 && std::isfinite(*pixel_pitch_m))) {
     return "--pixel-pitch must be a positive length";
+  }
+  if (pixel_pitch_m && (*pixel_pitch_m < kMinPixelPitchM ||
+                        *pixel_pitch_m > kMaxPixelPitchM)) {
+    return "--pixel-pitch must lie between 1 nm and 1 m (the object-side "
+           "size of one pixel)";
   }
   return carrier.Check();
 }

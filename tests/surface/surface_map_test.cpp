@@ -327,6 +327,14 @@ TEST(SurfaceMap, OptionsAreChecked) {
   EXPECT_THROW(ParseMapMode("spiral"), InputError);
   EXPECT_EQ(ParseThinSide(" Top "), ThinSide::kTop);
   EXPECT_THROW(ParseThinSide("up"), InputError);
+  // The pixel pitch: positive and within 1 nm .. 1 m, as for rings.
+  o = MapOptions{};
+  o.pixel_pitch_m = 60e-6;
+  EXPECT_TRUE(o.Check().empty());
+  for (const double bad : {0.0, -1e-6, 1e200, 1e-200}) {
+    o.pixel_pitch_m = bad;
+    EXPECT_NE(o.Check().find("--pixel-pitch"), std::string::npos) << bad;
+  }
 }
 
 }  // namespace
