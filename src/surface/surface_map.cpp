@@ -315,8 +315,8 @@ std::string MapOptions::Check() const {
       !(*pixel_pitch_m > 0.0 && std::isfinite(*pixel_pitch_m))) {
     return "--pixel-pitch must be a positive length";
   }
-  if (pixel_pitch_m && (*pixel_pitch_m < kMinPixelPitchM ||
-                        *pixel_pitch_m > kMaxPixelPitchM)) {
+  if (pixel_pitch_m &&
+      (*pixel_pitch_m < kMinPixelPitchM || *pixel_pitch_m > kMaxPixelPitchM)) {
     return "--pixel-pitch must lie between 1 nm and 1 m (the object-side "
            "size of one pixel)";
   }
