@@ -5,6 +5,7 @@
 #include <cmath>
 #include <limits>
 #include <numbers>
+#include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
 #include <vector>
 
@@ -55,19 +56,87 @@ ApertureResult DetectAperture(const cv::Mat& image,
       image, ReduceToWorkingSize(image, options.working_size_px), options);
 }
 
+namespace {
+
+// Area-averaging taps from `full` samples onto `reduced` cells of
+// `full / reduced` samples each: cell k covers [k f, (k + 1) f) and takes
+// each sample with its overlap (in samples). Cell k uses the taps
+// [first[k], first[k + 1]).
+struct AreaTaps {
+  std::vector<int> first;     // per cell, then one past the last tap
+  std::vector<int> source;    // sample index of each tap
+  std::vector<float> weight;  // overlap of each tap, in samples
+};
+
+AreaTaps MakeAreaTaps(int full, int reduced) {
+  AreaTaps taps;
+  const double f = static_cast<double>(full) / reduced;
+  taps.first.reserve(static_cast<std::size_t>(reduced) + 1);
+  for (int k = 0; k < reduced; ++k) {
+    taps.first.push_back(static_cast<int>(taps.source.size()));
+    const double lo = k * f;
+    const double hi = std::min<double>(full, (k + 1) * f);
+    for (int i = static_cast<int>(std::floor(lo));
+         i < full && static_cast<double>(i) < hi; ++i) {
+      const double overlap =
+          std::min<double>(i + 1, hi) - std::max<double>(i, lo);
+      if (overlap <= 1e-12) continue;
+      taps.source.push_back(i);
+      taps.weight.push_back(static_cast<float>(overlap));
+    }
+  }
+  taps.first.push_back(static_cast<int>(taps.source.size()));
+  return taps;
+}
+
+}  // namespace
+
 cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px) {
   assert(image.type() == CV_32FC1 && working_size_px >= 16);
   const double factor =
       std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
                         working_size_px);
   if (!(factor > 1.0)) return image;
-  cv::Mat small;
-  cv::resize(
-      image, small,
-      cv::Size(
-          std::max(16, static_cast<int>(std::lround(image.cols / factor))),
-          std::max(16, static_cast<int>(std::lround(image.rows / factor)))),
-      0, 0, cv::INTER_AREA);
+  const int cols =
+      std::max(16, static_cast<int>(std::lround(image.cols / factor)));
+  const int rows =
+      std::max(16, static_cast<int>(std::lround(image.rows / factor)));
+  // Area averaging as cv::INTER_AREA defines it (each reduced pixel the
+  // overlap-weighted mean of the full pixels under it), done separably: the
+  // rows under one reduced row summed with their vertical overlaps, then
+  // the columns with their horizontal overlaps.
+  const AreaTaps x_taps = MakeAreaTaps(image.cols, cols);
+  const AreaTaps y_taps = MakeAreaTaps(image.rows, rows);
+  const float scale =
+      static_cast<float>(static_cast<double>(cols) * rows /
+                         (static_cast<double>(image.cols) * image.rows));
+  cv::Mat small(rows, cols, CV_32FC1);
+  cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
+    std::vector<float> sum(static_cast<std::size_t>(image.cols));
+    for (int j = range.start; j < range.end; ++j) {
+      std::fill(sum.begin(), sum.end(), 0.0F);
+      for (int t = y_taps.first[static_cast<std::size_t>(j)];
+           t < y_taps.first[static_cast<std::size_t>(j) + 1]; ++t) {
+        const auto ti = static_cast<std::size_t>(t);
+        const float w = y_taps.weight[ti];
+        const float* row = image.ptr<float>(y_taps.source[ti]);
+        for (int x = 0; x < image.cols; ++x) {
+          sum[static_cast<std::size_t>(x)] += w * row[x];
+        }
+      }
+      auto* out = small.ptr<float>(j);
+      for (int i = 0; i < cols; ++i) {
+        float v = 0.0F;
+        for (int t = x_taps.first[static_cast<std::size_t>(i)];
+             t < x_taps.first[static_cast<std::size_t>(i) + 1]; ++t) {
+          const auto ti = static_cast<std::size_t>(t);
+          v += x_taps.weight[ti] *
+               sum[static_cast<std::size_t>(x_taps.source[ti])];
+        }
+        out[i] = v * scale;
+      }
+    }
+  });
   return small;
 }
 

@@ -131,24 +131,20 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
           } else {
             starts.assign(1, x0);
           }
-          for (std::size_t r = 0; r < starts.size(); ++r) {
-            const int a = starts[r];
-            const int b = r + 1 < starts.size() ? starts[r + 1] - 1 : x1;
-            // The run's sector from the exact azimuth of its middle pixel
-            // (no boundary lies inside a run), shifted by half a sector so
-            // that sector k is centred on 2 pi k / S.
-            int sector = 0;
-            if (sectors > 1) {
-              double angle =
-                  std::atan2(dy, 0.5 * (a + b) - centre.x) + 0.5 * sector_width;
-              if (angle < 0.0) angle += 2.0 * std::numbers::pi;
-              sector =
-                  std::min(static_cast<int>(angle / sector_width), sectors - 1);
-            }
+          // The sector of pixel x from its exact azimuth, shifted by half
+          // a sector so that sector k is centred on 2 pi k / S.
+          const auto sector_of = [&](int x) {
+            if (sectors == 1) return 0;
+            double angle = std::atan2(dy, x - centre.x) + 0.5 * sector_width;
+            if (angle < 0.0) angle += 2.0 * std::numbers::pi;
+            return std::min(static_cast<int>(angle / sector_width),
+                            sectors - 1);
+          };
+          const auto add = [&](int sector, int from, int to) {
             double* base = acc.data() + static_cast<std::size_t>(sector) *
                                             static_cast<std::size_t>(bins) *
                                             kFields;
-            for (int x = a; x <= b; ++x) {
+            for (int x = from; x <= to; ++x) {
               const double dx = x - centre.x;
               const double r2 = dx * dx + dy2;
               const int bin = static_cast<int>(r2 * inverse_bin);
@@ -160,6 +156,16 @@ SectorProfiles AccumulateSectorProfiles(const RowValues& values, cv::Size size,
               at[3] += dx;
               at[4] += dy;
             }
+          };
+          for (std::size_t r = 0; r < starts.size(); ++r) {
+            const int a = starts[r];
+            const int b = r + 1 < starts.size() ? starts[r + 1] - 1 : x1;
+            // Only a run's end pixels can lie on a boundary (to rounding):
+            // they get their own sector, the inside pixels that of the
+            // middle one.
+            add(sector_of(a), a, a);
+            if (b > a) add(sector_of(b), b, b);
+            if (b > a + 1) add(sector_of((a + b) / 2), a + 1, b - 1);
           }
         }
         const std::lock_guard<std::mutex> lock(merge);

@@ -19,6 +19,9 @@ namespace {
 
 // Samples a robust scale needs at most.
 constexpr std::size_t kMedianSamples = 32768;
+// Gradient centre: a pass that moves the centre less than this (px) ends the
+// reweighting.
+constexpr double kCentreSettledPx = 1e-4;
 
 // Median of `values`; of an evenly strided subset of about kMedianSamples
 // of them when there are more (a robust scale needs no more).
@@ -106,6 +109,7 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
     out.conditioning = largest > 0.0 ? eigen.eigenvalues()(0) / largest : 0.0;
     if (!(out.conditioning > 1e-4)) return out;
     const Eigen::Vector2d c = a.ldlt().solve(b);
+    const cv::Point2d previous_centre = centre;
     centre = cv::Point2d(c(0), c(1));
     // Distances of the lines from the centre; the robust scale is the
     // median of an evenly strided subset (every stride-th of the lines
@@ -146,7 +150,12 @@ GradientCentre EstimateCentreFromGradients(const cv::Mat& image,
     }
     out.lines = kept;
     out.inlier_fraction = inlier_weight / total_weight;
-    const bool settled = std::abs(scale - previous_scale) < 1e-3 * scale;
+    // Settled when the scale stops changing, or when the centre no longer
+    // moves (the median of a strided subset can cycle between a few values
+    // while the centre stays put to 1e-5 px).
+    const bool settled = std::abs(scale - previous_scale) < 1e-3 * scale ||
+                         (iteration > 0 && cv::norm(centre - previous_centre) <
+                                               kCentreSettledPx);
     previous_scale = scale;
     if (settled) break;
   }
