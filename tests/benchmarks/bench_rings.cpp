@@ -6,7 +6,8 @@
 //   (b) the analysis alone (AnalyseRings on the loaded image, in process),
 //   (c) the whole `figura rings` command (spawned; wall time and peak RSS),
 //   (d) the numpy/scipy peer ../shared/peers/rings_peer.py (spawned).
-// Prints the ratios against the targets and both radius errors
+// Prints the ratios against the targets (wall times; the analysis
+// ratio also in processor time, for information) and both radius errors
 // against the truth file. Times are the minimum over repetitions (the
 // machine is shared and noisy: the minimum is the least disturbed run
 // [practice]); medians are printed beside them.
@@ -221,6 +222,7 @@ int main(int argc, char** argv) {
     options.fit.view = sim.view;
 
     std::vector<double> decode;
+    std::vector<double> decode_cpu;
     std::vector<double> analysis;
     std::vector<double> analysis_cpu;
     std::vector<double> command;
@@ -255,6 +257,7 @@ int main(int argc, char** argv) {
 
     for (int rep = 0; rep < reps; ++rep) {
       auto t0 = Clock::now();
+      const std::clock_t c0 = std::clock();
       const figura::Image image = figura::LoadImage(image_path);
       auto t1 = Clock::now();
       const std::clock_t c1 = std::clock();
@@ -262,6 +265,7 @@ int main(int argc, char** argv) {
       auto t2 = Clock::now();
       const std::clock_t c2 = std::clock();
       decode.push_back(Seconds(t0, t1));
+      decode_cpu.push_back(static_cast<double>(c1 - c0) / CLOCKS_PER_SEC);
       analysis.push_back(Seconds(t1, t2));
       analysis_cpu.push_back(static_cast<double>(c2 - c1) / CLOCKS_PER_SEC);
       if (result.status == figura::Status::kError) {
@@ -358,6 +362,12 @@ int main(int argc, char** argv) {
     const double a_over_d = Min(analysis) / Min(decode);
     PrintRow("analysis / decode", a_over_d, "<= 1", a_over_d <= 1.0);
     bool all = a_over_d <= 1.0;
+    // The target compares wall times: the analysis may use both cores, the
+    // decode uses one. The same ratio in processor time (all threads) gives
+    // no credit for the second core and is steadier on a loaded machine;
+    // printed for information.
+    std::printf("  %-34s %10.3f   (processor time, information)\n",
+                "analysis / decode, cpu", Min(analysis_cpu) / Min(decode_cpu));
     if (!peer_s.empty()) {
       const double p_over_c = Min(peer_s) / Min(command);
       PrintRow("peer / command", p_over_c, ">= 10", p_over_c >= 10.0);
