@@ -196,10 +196,14 @@ const CodecModule& CodecModule::Shared() {
 const char* CodecModuleFileName() { return FIGURA_CODEC_MODULE_NAME; }
 
 std::vector<fs::path> CodecModuleFolders() {
-  std::vector<fs::path> folders;
   std::error_code ec;
   const fs::path exe = fs::read_symlink("/proc/self/exe", ec);
-  if (!ec && !exe.empty()) {
+  return CodecModuleFoldersFor(ec ? fs::path() : exe);
+}
+
+std::vector<fs::path> CodecModuleFoldersFor(const fs::path& exe) {
+  std::vector<fs::path> folders;
+  if (!exe.empty()) {
     folders.push_back(exe.parent_path());
     // An installed tree moved to another prefix (or a package installed
     // under /usr): the module's folder relative to the binary's.
@@ -208,9 +212,16 @@ std::vector<fs::path> CodecModuleFolders() {
           (exe.parent_path() / FIGURA_CODEC_RELATIVE_DIR).lexically_normal());
     }
   }
-  for (const char* folder :
-       {FIGURA_CODEC_INSTALL_DIR, FIGURA_CODEC_BUILD_DIR}) {
-    if (*folder != '\0') folders.emplace_back(folder);
+  if (*FIGURA_CODEC_INSTALL_DIR != '\0') {
+    folders.emplace_back(FIGURA_CODEC_INSTALL_DIR);
+  }
+  // The build folder only for programs run from inside the build tree
+  // (tests, benchmarks): an installed or packaged binary never looks there.
+  const fs::path build_dir = FIGURA_CODEC_BUILD_DIR;
+  if (!build_dir.empty() && !exe.empty()) {
+    const fs::path rel =
+        exe.lexically_normal().lexically_relative(build_dir.lexically_normal());
+    if (!rel.empty() && *rel.begin() != "..") folders.push_back(build_dir);
   }
   return folders;
 }

@@ -90,8 +90,13 @@ class CodecModule {
 const char* CodecModuleFileName();
 
 // The folders CodecModule::Shared() looks in, in order: the running
-// executable's folder, the install folder, the build folder.
+// executable's folder, the install folder relative to it, the install
+// folder, and the build folder when the executable runs from inside it.
 std::vector<std::filesystem::path> CodecModuleFolders();
+
+// CodecModuleFolders() for an executable at `exe` (empty: unknown).
+std::vector<std::filesystem::path> CodecModuleFoldersFor(
+    const std::filesystem::path& exe);
 
 // True once CodecModule::Shared() has loaded the module in this process
 // (does not load it).

@@ -6,6 +6,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -234,6 +235,22 @@ TEST(CodecModule, SharedModuleComesFromTheBuild) {
   EXPECT_EQ(folders[0], exe_dir);
   EXPECT_EQ(folders[1].filename(), "figura");
   EXPECT_TRUE(fs::exists(module.path()));
+}
+
+// A packaged binary must not look into the folder it was built in (found by
+// the fresh-root .deb check: the "not found" message listed the build tree).
+TEST(CodecModule, InstalledBinarySkipsTheBuildFolder) {
+  const std::vector<fs::path> installed =
+      CodecModuleFoldersFor("/usr/bin/figura");
+  ASSERT_EQ(installed.size(), 3U);
+  EXPECT_EQ(installed[0], fs::path("/usr/bin"));
+  // From inside the build tree (this test program) the build folder comes
+  // last, and an installed binary's list does not hold it.
+  const std::vector<fs::path> here =
+      CodecModuleFoldersFor(fs::read_symlink("/proc/self/exe"));
+  ASSERT_EQ(here.size(), 4U);
+  EXPECT_EQ(std::count(installed.begin(), installed.end(), here.back()), 0);
+  EXPECT_TRUE(fs::exists(here.back() / CodecModuleFileName()));
 }
 
 TEST(CodecModule, MissingModuleNamesFileAndFolders) {
