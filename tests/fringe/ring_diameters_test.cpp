@@ -155,6 +155,29 @@ TEST(RingDiameters, LiquidInTheGap) {
   EXPECT_NEAR(r_liq / r_air, 1.0, 1e-6);
 }
 
+// Found by job_file_fuzz (tests/fuzz/corpus/job_file_fuzz/
+// regress-diameter-overflows-fit): a diameter of 4.4e261 mm is a valid
+// length, but r^2 overflows (DBL_MAX = 1.797e308, IEEE 754 binary64) and the
+// fit reported an infinite radius as usable. Now an error with a reason.
+TEST(RingDiameters, DiametersThatOverflowTheFitAreAnError) {
+  const std::string one_ring =
+      "order,diameter,kind\n1,4" + std::string(261, '4') + "mm,bright\n";
+  const RingFitResult fit = FitRingDiameters(
+      ParseRingDiameters(one_ring, "huge.csv"), Options(546.07e-9));
+  EXPECT_EQ(fit.status, Status::kError);
+  ASSERT_FALSE(fit.messages.empty());
+  EXPECT_NE(fit.messages.back().find("no finite radius"), std::string::npos)
+      << fit.messages.back();
+  // Several huge rings: the fit itself already refuses them, with a reason.
+  const std::string three_rings =
+      "order,diameter,kind\n1,1e160mm,dark\n2,1.5e160mm,dark\n"
+      "3,1.8e160mm,dark\n";
+  const RingFitResult fit3 = FitRingDiameters(
+      ParseRingDiameters(three_rings, "huge3.csv"), Options(546.07e-9));
+  EXPECT_EQ(fit3.status, Status::kError);
+  EXPECT_FALSE(fit3.messages.empty());
+}
+
 TEST(RingDiameters, ReadableErrors) {
   auto message = [](const std::string& text) {
     try {
