@@ -55,7 +55,7 @@ class OutputSafetyE2e : public ::testing::Test {
     for (int i = 0; i < 6; ++i) {
       const std::string name = "OW117-" + std::to_string(i + 1) + ".tif";
       figura::test::WriteLotPhoto(Root() / "lot" / name, powers[i],
-                                  static_cast<std::uint64_t>(700 + i));
+                                  700 + static_cast<std::uint64_t>(i));
     }
     std::ofstream(Root() / "job.ini") << figura::test::LotJobText();
     // A carrier-fringe photo for `map`: the demo window (images_demo).
