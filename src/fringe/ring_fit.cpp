@@ -646,7 +646,9 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
     const double ref_sag = std::isfinite(r_ref) && half < std::abs(r_ref)
                                ? SphereSag(r_ref, half)
                                : 0.0;
-    out.power_fringes = sign * k_fringe * (out.sag_m - ref_sag);
+    // Signed as the gap's change from the centre to the edge (sphere.h
+    // SphereGap, and map power): negative when it closes towards the edge.
+    out.power_fringes = k_fringe * (out.sag_m - ref_sag);
     out.power_u_fringes = std::abs(out.power_fringes) * u_gap_rel;
   } else {
     out.sag_m = kNaN;

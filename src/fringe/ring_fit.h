@@ -168,7 +168,8 @@ struct RingFitResult {
   bool over_test_diameter = false;  // aperture_diameter_m is the test diameter
   double sag_m = 0.0;  // exact sphere sag of the part over the aperture
   double power_fringes =
-      0.0;  // gap change centre -> edge in fringes (exact sags)
+      0.0;  // gap change centre -> edge in fringes (exact sags), signed:
+            // positive when the gap opens towards the edge
   double power_u_fringes = 0.0;
   double astigmatism_fringes =
       0.0;  // difference of the principal-axis fringe counts

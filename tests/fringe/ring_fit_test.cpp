@@ -148,9 +148,10 @@ TEST(RingFit, TestPlateCentreAndEdgeContact) {
     EXPECT_NEAR(fit.deviation_m, part - 0.100, 1e-10);
     // Power over the evaluated aperture from the exact sags (sphere.h).
     const double half = 0.5 * fit.aperture_diameter_m;
+    // Signed like the gap (sphere.h): negative for the edge contact.
     EXPECT_NEAR(fit.power_fringes,
-                std::abs(GapFringes(SphereGap(part, -0.100, half), kLambda)),
-                1e-6);
+                GapFringes(SphereGap(part, -0.100, half), kLambda), 1e-6);
+    EXPECT_EQ(fit.power_fringes < 0.0, t.contact == Contact::kEdge);
   }
 }
 
@@ -385,8 +386,7 @@ TEST(RingFit, PowerOverTheTestDiameter) {
   EXPECT_TRUE(fit.over_test_diameter);
   EXPECT_NEAR(fit.aperture_diameter_m, 0.012, 1e-12);
   EXPECT_NEAR(fit.power_fringes,
-              std::abs(GapFringes(SphereGap(0.09995, -0.100, 0.006), kLambda)),
-              1e-6);
+              GapFringes(SphereGap(0.09995, -0.100, 0.006), kLambda), 1e-6);
   // A test diameter beyond the outermost fringe is extrapolation: warned.
   o.test_diameter = Length::Millimetres(150.0);
   const RingFitResult wide = FitRings(MakePoints(t), o, Guess(t));
