@@ -97,7 +97,7 @@ TEST(MapE2e, DemoWindowCarrierMap) {
   long n = 0;
   for (int y = 0; y < h.pixels.rows; ++y) {
     for (int x = 0; x < h.pixels.cols; ++x) {
-      const double v = h.pixels.at<float>(y, x);
+      const double v = static_cast<double>(h.pixels.at<float>(y, x));
       if (!std::isfinite(v)) continue;
       ss += v * v;
       sum += v;

@@ -59,7 +59,7 @@ double FitMinimumX(const cv::Mat& image, int row, double cx, double cy,
     const double u = dx * dx + dy * dy;
     if (std::abs(u - u_expected) > period_u) continue;
     us.push_back(u);
-    values.push_back(image.at<float>(row, x));
+    values.push_back(static_cast<double>(image.at<float>(row, x)));
   }
   const int n = static_cast<int>(us.size());
   EXPECT_GE(n, 8);
@@ -332,7 +332,7 @@ TEST(Simulate, SodiumDoubletBeatsAtTheExpectedGap) {
     for (int i = 0; i < 21; ++i) {
       const double w = 2 * kPi * (i - 10) / period_px;
       a.row(i) << 1, std::cos(w), std::sin(w);
-      b(i) = r.image.at<float>(4, x0 + i - 10);
+      b(i) = static_cast<double>(r.image.at<float>(4, x0 + i - 10));
     }
     const Eigen::VectorXd c = a.colPivHouseholderQr().solve(b);
     return std::hypot(c(1), c(2)) / c(0);
