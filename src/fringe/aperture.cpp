@@ -9,6 +9,7 @@
 #include <opencv2/imgproc.hpp>
 #include <vector>
 
+#include "fringe/disc_closing.h"
 #include "fringe/extremum.h"
 
 namespace figura {
@@ -175,10 +176,7 @@ ApertureResult DetectAperture(const cv::Mat& image, const cv::Mat& reduced,
   const int k = std::max(
       3,
       static_cast<int>(std::lround(0.02 * std::max(small.cols, small.rows))));
-  const cv::Mat disc = cv::getStructuringElement(
-      cv::MORPH_ELLIPSE, cv::Size(2 * k + 1, 2 * k + 1));
-  cv::Mat closed;
-  cv::morphologyEx(small, closed, cv::MORPH_CLOSE, disc);
+  const cv::Mat closed = CloseWithDisc(small, k);
 
   double lo = 0.0;
   double hi = 0.0;

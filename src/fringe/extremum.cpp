@@ -41,9 +41,14 @@ ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
   struct Sample {
     double w, v, cos_u, sin_u, x;
   };
-  std::vector<Sample> used_samples;
-  used_samples.reserve(last - first);
-  Eigen::Matrix4d normal = Eigen::Matrix4d::Zero();
+  // The window's samples, kept for the residuals; one buffer per thread
+  // (this runs thousands of times per photo, from parallel sectors).
+  thread_local std::vector<Sample> used_samples;
+  used_samples.clear();
+  // Upper triangle of the normal matrix of the basis (1, cos, sin, x),
+  // accumulated by hand (a 4 x 4 rank update per sample).
+  double n00 = 0.0, n01 = 0.0, n02 = 0.0, n03 = 0.0, n11 = 0.0, n12 = 0.0,
+         n13 = 0.0, n22 = 0.0, n23 = 0.0, n33 = 0.0;
   Eigen::Vector4d rhs = Eigen::Vector4d::Zero();
   double x_min = 1.0;
   double x_max = -1.0;
@@ -52,23 +57,42 @@ ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
     const double w = weight[i];
     if (!(w > 0.0) || !std::isfinite(value[i])) continue;
     const double x = (s[i] - s0) / period;
-    const Sample sample{w, value[i], std::cos(kTwoPi * x), std::sin(kTwoPi * x),
-                        x};
-    const Eigen::Vector4d basis(1.0, sample.cos_u, sample.sin_u,
-                                options.fit_slope ? x : 0.0);
-    normal.selfadjointView<Eigen::Lower>().rankUpdate(basis, w);
-    rhs += (w * sample.v) * basis;
+    const double c = std::cos(kTwoPi * x);
+    const double d = std::sin(kTwoPi * x);
+    const double t = options.fit_slope ? x : 0.0;
+    const double wc = w * c;
+    const double wd = w * d;
+    const double wt = w * t;
+    n00 += w;
+    n01 += wc;
+    n02 += wd;
+    n03 += wt;
+    n11 += wc * c;
+    n12 += wc * d;
+    n13 += wc * t;
+    n22 += wd * d;
+    n23 += wd * t;
+    n33 += wt * t;
+    const double wv = w * value[i];
+    rhs(0) += wv;
+    rhs(1) += wv * c;
+    rhs(2) += wv * d;
+    rhs(3) += wv * t;
     weight_sum += w;
     x_min = std::min(x_min, x);
     x_max = std::max(x_max, x);
-    used_samples.push_back(sample);
+    used_samples.push_back({w, value[i], c, d, x});
   }
   const auto used = static_cast<int>(used_samples.size());
   fit.samples = used;
   fit.weight_sum = 0.0;
   if (used < std::max(options.min_samples, parameters + 2)) return fit;
   if (x_max - x_min < options.min_coverage) return fit;
-  normal = normal.selfadjointView<Eigen::Lower>();
+  Eigen::Matrix4d normal;
+  normal << n00, n01, n02, n03,  //
+      n01, n11, n12, n13,        //
+      n02, n12, n22, n23,        //
+      n03, n13, n23, n33;
   if (!options.fit_slope) normal(3, 3) = 1.0;  // c fixed at 0 (rhs(3) = 0)
   const Eigen::LDLT<Eigen::Matrix4d> ldlt(normal);
   if (ldlt.info() != Eigen::Success) return fit;
@@ -83,16 +107,22 @@ ExtremumFit FitOnce(std::span<const double> s, std::span<const double> value,
     residual_sum += sample.w * r * r;
   }
   const double variance = residual_sum / static_cast<double>(used - parameters);
-  const Eigen::Matrix4d covariance =
-      variance * ldlt.solve(Eigen::Matrix4d::Identity());
+  // Only the (cos, sin) block of the covariance is needed: two columns of
+  // the inverse normal matrix.
+  Eigen::Matrix<double, 4, 2> unit = Eigen::Matrix<double, 4, 2>::Zero();
+  unit(1, 0) = 1.0;
+  unit(2, 1) = 1.0;
+  const Eigen::Matrix<double, 4, 2> columns = variance * ldlt.solve(unit);
+  const double cov11 = columns(1, 0);
+  const double cov22 = columns(2, 1);
+  const double cov12 = columns(1, 1);
   const double ca = coefficients(1);
   const double cd = coefficients(2);
   const double amplitude2 = ca * ca + cd * cd;
   if (!(amplitude2 > 0.0)) return fit;
   const double u = minimum ? std::atan2(-cd, -ca) : std::atan2(cd, ca);
   const double var_u =
-      (cd * cd * covariance(1, 1) + ca * ca * covariance(2, 2) -
-       2.0 * ca * cd * covariance(1, 2)) /
+      (cd * cd * cov11 + ca * ca * cov22 - 2.0 * ca * cd * cov12) /
       (amplitude2 * amplitude2);
   fit.position = s0 + u / kTwoPi * period;
   fit.sigma = std::sqrt(std::max(var_u, 0.0)) / kTwoPi * period;
