@@ -53,10 +53,13 @@ constexpr double kTwoPi = 2.0 * std::numbers::pi;
 constexpr int kBinsPerPeriod = 24;
 // Largest working size for the coarse steps (aperture, gradient centre).
 constexpr int kWorkingSize = 640;
-// Pixels kept (at least) by the steps before the final sector profiles:
-// pixel-rich photographs use every n-th row there, n = inside / this (the
-// 12 MP benchmark photo has ~5.4 M pixels inside: every 4th row).
+// Pixels kept (at least) by the period estimate: pixel-rich photographs use
+// every n-th row there, n = inside / this (the 12 MP benchmark photo has
+// ~5.4 M pixels inside: every 4th row).
 constexpr int kCoarsePixels = 1200000;
+// Largest distance (pixels) between the sharpest centre and the circles'
+// centre at which the sector points about the sharpest centre are kept.
+constexpr double kRecentrePx = 0.25;
 // Pixels used in the sharpness refinement at most.
 constexpr double kRefinementSamples = 400000.0;
 
@@ -567,10 +570,8 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   if (!InsideImage(centre, image)) return fail(OutsideMessage(centre, image));
 
   clock.Lap("gradient centre");
-  // Pixel-rich photographs: the steps before the final sector profiles
-  // (period, first sector profiles, whose points only serve the centre) use
-  // every n-th row, keeping at least kCoarsePixels pixels; smaller ones use
-  // all rows.
+  // Pixel-rich photographs: the period estimate uses every n-th row,
+  // keeping at least kCoarsePixels pixels; smaller ones use all rows.
   const int coarse_rows = std::max(1, inside / kCoarsePixels);
 
   // 5. Period in r^2 from the spectrum of the azimuthal mean profile.
@@ -609,9 +610,14 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   result.centre_px = centre;
 
   // 7.-9. Profiles, numbering and sector points about the sharpest centre,
-  // then once more about the centre of circles through those points.
+  // then the centre of circles through those points. The points are placed
+  // along their own azimuth, so a centre a fraction of a pixel off only
+  // widens each sector's fringes slightly (by about the offset times the
+  // sector's angular width) and leaves them on their rings; when the circles'
+  // centre lies farther than kRecentrePx from the sharpest one, the
+  // profiles are taken once more about it.
   Analysis analysis = AnalyseAbout(normalised, image.size(), region, centre,
-                                   period, options.sectors, coarse_rows);
+                                   period, options.sectors, 1);
   clock.Lap("sectors about the sharpest centre");
   if (!analysis.error.empty()) return fail(analysis.error);
   ConcentricFit circles =
@@ -619,13 +625,17 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   const cv::Point2d sharpest = centre;
   if (circles.ok && cv::norm(circles.centre - centre) < 3.0 &&
       InsideImage(circles.centre, image)) {
-    Analysis second =
-        AnalyseAbout(normalised, image.size(), region, circles.centre,
-                     analysis.period, options.sectors, 1);
-    if (second.error.empty()) {
+    if (cv::norm(circles.centre - centre) <= kRecentrePx) {
       centre = circles.centre;
-      analysis = std::move(second);
-      circles = FitConcentricCircles(Numbered(analysis.points), centre);
+    } else {
+      Analysis second =
+          AnalyseAbout(normalised, image.size(), region, circles.centre,
+                       analysis.period, options.sectors, 1);
+      if (second.error.empty()) {
+        centre = circles.centre;
+        analysis = std::move(second);
+        circles = FitConcentricCircles(Numbered(analysis.points), centre);
+      }
     }
   }
   clock.Lap("sectors about the circles' centre");
