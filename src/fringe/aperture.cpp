@@ -1,9 +1,11 @@
 #include "fringe/aperture.h"
 
 #include <algorithm>
+#include <array>
 #include <cassert>
 #include <cmath>
 #include <limits>
+#include <mutex>
 #include <numbers>
 #include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
@@ -90,14 +92,87 @@ AreaTaps MakeAreaTaps(int full, int reduced) {
   return taps;
 }
 
+// Running range of pixel rows (see PixelRange).
+struct RangeParts {
+  float lo = std::numeric_limits<float>::infinity();
+  float hi = -std::numeric_limits<float>::infinity();
+  float check = 0.0F;
+  void Add(const float* row, int count) {
+    // Eight independent lanes, so that the compiler can keep them in one
+    // vector register each (a single running min/max/sum is a dependency
+    // chain it may not reorder).
+    constexpr int kLanes = 8;
+    std::array<float, kLanes> l{};
+    std::array<float, kLanes> h{};
+    std::array<float, kLanes> c{};
+    l.fill(lo);
+    h.fill(hi);
+    int x = 0;
+    for (; x + kLanes <= count; x += kLanes) {
+      for (int k = 0; k < kLanes; ++k) {
+        const float v = row[x + k];
+        l[static_cast<std::size_t>(k)] =
+            std::min(l[static_cast<std::size_t>(k)], v);
+        h[static_cast<std::size_t>(k)] =
+            std::max(h[static_cast<std::size_t>(k)], v);
+        c[static_cast<std::size_t>(k)] += v - v;
+      }
+    }
+    for (; x < count; ++x) {
+      l[0] = std::min(l[0], row[x]);
+      h[0] = std::max(h[0], row[x]);
+      c[0] += row[x] - row[x];
+    }
+    for (int k = 0; k < kLanes; ++k) {
+      lo = std::min(lo, l[static_cast<std::size_t>(k)]);
+      hi = std::max(hi, h[static_cast<std::size_t>(k)]);
+      check = check + c[static_cast<std::size_t>(k)];
+    }
+  }
+  void Merge(const RangeParts& other) {
+    lo = std::min(lo, other.lo);
+    hi = std::max(hi, other.hi);
+    check = check + other.check;
+  }
+  [[nodiscard]] PixelRange Range() const {
+    return PixelRange{lo, hi, check == 0.0F};
+  }
+};
+
 }  // namespace
 
-cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px) {
+cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px,
+                            PixelRange* range) {
   assert(image.type() == CV_32FC1 && working_size_px >= 16);
+  // Per stripe of rows: running min/max and a finiteness check (x - x is 0
+  // for finite x and NaN otherwise, so the sum stays 0 only when every
+  // pixel is finite; vectorisable, no branch), merged at the end.
+  std::mutex merge;
+  RangeParts all;
+  const auto merge_range = [&](const RangeParts& part) {
+    if (range == nullptr) return;
+    const std::lock_guard<std::mutex> lock(merge);
+    all.Merge(part);
+  };
+  const auto finish = [&]() {
+    if (range != nullptr) *range = all.Range();
+  };
   const double factor =
       std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
                         working_size_px);
-  if (!(factor > 1.0)) return image;
+  if (!(factor > 1.0)) {
+    if (range != nullptr) {
+      cv::parallel_for_(cv::Range(0, image.rows), [&](const cv::Range& rows) {
+        RangeParts part;
+        for (int y = rows.start; y < rows.end; ++y) {
+          part.Add(image.ptr<float>(y), image.cols);
+        }
+        merge_range(part);
+      });
+    }
+    finish();
+    return image;
+  }
   const int cols =
       std::max(16, static_cast<int>(std::lround(image.cols / factor)));
   const int rows =
@@ -112,9 +187,10 @@ cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px) {
       static_cast<float>(static_cast<double>(cols) * rows /
                          (static_cast<double>(image.cols) * image.rows));
   cv::Mat small(rows, cols, CV_32FC1);
-  cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& range) {
+  cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& cells) {
     std::vector<float> sum(static_cast<std::size_t>(image.cols));
-    for (int j = range.start; j < range.end; ++j) {
+    RangeParts part;
+    for (int j = cells.start; j < cells.end; ++j) {
       std::fill(sum.begin(), sum.end(), 0.0F);
       for (int t = y_taps.first[static_cast<std::size_t>(j)];
            t < y_taps.first[static_cast<std::size_t>(j) + 1]; ++t) {
@@ -124,6 +200,7 @@ cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px) {
         for (int x = 0; x < image.cols; ++x) {
           sum[static_cast<std::size_t>(x)] += w * row[x];
         }
+        if (range != nullptr) part.Add(row, image.cols);
       }
       auto* out = small.ptr<float>(j);
       for (int i = 0; i < cols; ++i) {
@@ -137,7 +214,9 @@ cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px) {
         out[i] = v * scale;
       }
     }
+    merge_range(part);
   });
+  finish();
   return small;
 }
 

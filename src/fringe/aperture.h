@@ -45,10 +45,20 @@ ApertureResult DetectAperture(const cv::Mat& image,
 ApertureResult DetectAperture(const cv::Mat& image, const cv::Mat& reduced,
                               const ApertureOptions& options = {});
 
+// Smallest and largest pixel value of an image (in its own units), and
+// whether every pixel is finite (lo and hi are meaningless otherwise).
+struct PixelRange {
+  float lo = 0.0F;
+  float hi = 0.0F;
+  bool finite = true;
+};
+
 // `image` (CV_32FC1) reduced by area averaging (cv::INTER_AREA) so that its
 // larger side is at most `working_size_px` (at least 16 px a side); the
-// image itself (not a copy) when it is already that small.
-cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px);
+// image itself (not a copy) when it is already that small. With `range`,
+// also the range of the full image's pixels, from the same pass over them.
+cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px,
+                            PixelRange* range = nullptr);
 
 // Bilinear interpolation of a CV_32FC1 image at (x, y) (pixel centres at
 // integers); NaN outside [0, cols-1] x [0, rows-1].

@@ -74,39 +74,6 @@ __attribute__((format(printf, 1, 2))) std::string Format(const char* format,
   return buffer;
 }
 
-// Minimum and maximum of a CV_32FC1 image in one parallel pass; false when
-// a pixel is NaN or infinite.
-bool FiniteRange(const cv::Mat& image, double& lo, double& hi) {
-  std::mutex merge;
-  bool finite = true;
-  float lo_all = std::numeric_limits<float>::infinity();
-  float hi_all = -std::numeric_limits<float>::infinity();
-  cv::parallel_for_(cv::Range(0, image.rows), [&](const cv::Range& rows) {
-    float lo_part = std::numeric_limits<float>::infinity();
-    float hi_part = -std::numeric_limits<float>::infinity();
-    bool finite_part = true;
-    for (int y = rows.start; y < rows.end; ++y) {
-      const float* row = image.ptr<float>(y);
-      // x - x is 0 for finite x and NaN otherwise; the sum stays 0 only
-      // when the whole row is finite (vectorisable, no branch).
-      float check = 0.0F;
-      for (int x = 0; x < image.cols; ++x) {
-        lo_part = std::min(lo_part, row[x]);
-        hi_part = std::max(hi_part, row[x]);
-        check += row[x] - row[x];
-      }
-      finite_part = finite_part && check == 0.0F;
-    }
-    const std::lock_guard<std::mutex> lock(merge);
-    finite = finite && finite_part;
-    lo_all = std::min(lo_all, lo_part);
-    hi_all = std::max(hi_all, hi_part);
-  });
-  lo = static_cast<double>(lo_all);
-  hi = static_cast<double>(hi_all);
-  return finite;
-}
-
 bool InsideImage(cv::Point2d p, const cv::Mat& image) {
   return p.x >= -0.5 && p.y >= -0.5 && p.x <= image.cols - 0.5 &&
          p.y <= image.rows - 0.5;
@@ -422,19 +389,20 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   // A float image is used as it is (no copy: it is only read).
   cv::Mat image = input;
   if (input.type() != CV_32FC1) input.convertTo(image, CV_32F);
-  double lo = 0.0;
-  double hi = 0.0;
-  if (!FiniteRange(image, lo, hi)) {
+  // The image at the working size of the coarse steps (aperture, gradient
+  // centre), reduced once; the pixel range comes from the same pass.
+  PixelRange range;
+  const cv::Mat reduced = ReduceToWorkingSize(image, kWorkingSize, &range);
+  if (!range.finite) {
     return fail("the image holds non-finite pixel values");
   }
+  const auto lo = static_cast<double>(range.lo);
+  const auto hi = static_cast<double>(range.hi);
   if (!(hi - lo > 1e-6 * std::max(std::abs(hi), std::abs(lo)))) {
     return fail("no fringes: the image is uniform");
   }
 
-  clock.Lap("range");
-  // The image at the working size of the coarse steps (aperture, gradient
-  // centre), reduced once.
-  const cv::Mat reduced = ReduceToWorkingSize(image, kWorkingSize);
+  clock.Lap("range and reduction");
 
   // 1. Clear aperture.
   Circle aperture;
@@ -602,7 +570,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
     const PixelSamples samples =
         SamplePixels(normalised, image.size(), region, stride);
     const CentreRefinement refined = RefineCentreBySharpness(
-        samples, centre, period, std::max(1.0, factor), 0.02);
+        samples, centre, period, std::max(1.0, factor), 0.05);
     if (refined.ok) centre = refined.centre;
   }
   clock.Lap("sharpness");

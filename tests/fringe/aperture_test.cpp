@@ -7,6 +7,7 @@
 
 #include <gtest/gtest.h>
 
+#include <limits>
 #include <opencv2/core.hpp>
 #include <opencv2/imgproc.hpp>
 
@@ -53,6 +54,36 @@ TEST(ReduceToWorkingSize, SmallImageIsReturnedAsItIs) {
   const cv::Mat image(300, 400, CV_32FC1, cv::Scalar(5.0));
   const cv::Mat same = ReduceToWorkingSize(image, 640);
   EXPECT_EQ(same.data, image.data);
+}
+
+// The range from the reduction pass equals cv::minMaxLoc over the full image
+// (reference: OpenCV core), for reduced and for small (returned as is)
+// images; a NaN or an infinity anywhere makes it not finite.
+TEST(ReduceToWorkingSize, RangeOfTheFullImage) {
+  for (const cv::Size size : {cv::Size(1001, 637), cv::Size(300, 200)}) {
+    cv::Mat image(size, CV_32FC1);
+    cv::RNG rng(99);  // fixed seed
+    rng.fill(image, cv::RNG::NORMAL, 1000.0, 300.0);
+    // Extremes in single pixels that the area averaging would hide.
+    image.at<float>(size.height - 1, 3) = -12345.0F;
+    image.at<float>(0, size.width - 1) = 98765.0F;
+    PixelRange range;
+    ReduceToWorkingSize(image, 640, &range);
+    double lo = 0.0;
+    double hi = 0.0;
+    cv::minMaxLoc(image, &lo, &hi);
+    EXPECT_TRUE(range.finite) << size;
+    EXPECT_EQ(static_cast<double>(range.lo), lo) << size;
+    EXPECT_EQ(static_cast<double>(range.hi), hi) << size;
+    for (const float bad : {std::numeric_limits<float>::quiet_NaN(),
+                            std::numeric_limits<float>::infinity()}) {
+      cv::Mat spoiled = image.clone();
+      spoiled.at<float>(size.height / 2, size.width - 2) = bad;
+      PixelRange spoiled_range;
+      ReduceToWorkingSize(spoiled, 640, &spoiled_range);
+      EXPECT_FALSE(spoiled_range.finite) << size << " " << bad;
+    }
+  }
 }
 
 }  // namespace
