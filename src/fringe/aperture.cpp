@@ -1,12 +1,12 @@
 #include "fringe/aperture.h"
 
 #include <algorithm>
-#include <array>
 #include <cassert>
 #include <cmath>
 #include <limits>
 #include <mutex>
 #include <numbers>
+#include <opencv2/core/hal/intrin.hpp>
 #include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
 #include <vector>
@@ -98,35 +98,28 @@ struct RangeParts {
   float hi = -std::numeric_limits<float>::infinity();
   float check = 0.0F;
   void Add(const float* row, int count) {
-    // Eight independent lanes, so that the compiler can keep them in one
-    // vector register each (a single running min/max/sum is a dependency
-    // chain it may not reorder).
-    constexpr int kLanes = 8;
-    std::array<float, kLanes> l{};
-    std::array<float, kLanes> h{};
-    std::array<float, kLanes> c{};
-    l.fill(lo);
-    h.fill(hi);
     int x = 0;
-    for (; x + kLanes <= count; x += kLanes) {
-      for (int k = 0; k < kLanes; ++k) {
-        const float v = row[x + k];
-        l[static_cast<std::size_t>(k)] =
-            std::min(l[static_cast<std::size_t>(k)], v);
-        h[static_cast<std::size_t>(k)] =
-            std::max(h[static_cast<std::size_t>(k)], v);
-        c[static_cast<std::size_t>(k)] += v - v;
-      }
+#if CV_SIMD
+    // OpenCV's universal intrinsics (the widest vectors this build allows):
+    // min/max lane by lane, and x - x summed (NaN for NaN and infinities).
+    const int lanes = cv::v_float32::nlanes;
+    cv::v_float32 l = cv::vx_setall_f32(lo);
+    cv::v_float32 h = cv::vx_setall_f32(hi);
+    cv::v_float32 c = cv::vx_setzero_f32();
+    for (; x + lanes <= count; x += lanes) {
+      const cv::v_float32 v = cv::vx_load(row + x);
+      l = cv::v_min(l, v);
+      h = cv::v_max(h, v);
+      c = c + (v - v);
     }
+    lo = cv::v_reduce_min(l);
+    hi = cv::v_reduce_max(h);
+    check = check + cv::v_reduce_sum(c);
+#endif
     for (; x < count; ++x) {
-      l[0] = std::min(l[0], row[x]);
-      h[0] = std::max(h[0], row[x]);
-      c[0] += row[x] - row[x];
-    }
-    for (int k = 0; k < kLanes; ++k) {
-      lo = std::min(lo, l[static_cast<std::size_t>(k)]);
-      hi = std::max(hi, h[static_cast<std::size_t>(k)]);
-      check = check + c[static_cast<std::size_t>(k)];
+      lo = std::min(lo, row[x]);
+      hi = std::max(hi, row[x]);
+      check = check + (row[x] - row[x]);
     }
   }
   void Merge(const RangeParts& other) {
