@@ -6,13 +6,13 @@
 #include <limits>
 #include <mutex>
 #include <numbers>
-#include <opencv2/core/hal/intrin.hpp>
 #include <opencv2/core/utility.hpp>
 #include <opencv2/imgproc.hpp>
 #include <vector>
 
 #include "fringe/disc_closing.h"
 #include "fringe/extremum.h"
+#include "io/pixel_range.h"
 
 namespace figura {
 
@@ -92,78 +92,24 @@ AreaTaps MakeAreaTaps(int full, int reduced) {
   return taps;
 }
 
-// Running range of pixel rows (see PixelRange).
-struct RangeParts {
-  float lo = std::numeric_limits<float>::infinity();
-  float hi = -std::numeric_limits<float>::infinity();
-  float check = 0.0F;
-  void Add(const float* row, int count) {
-    int x = 0;
-#if CV_SIMD
-    // OpenCV's universal intrinsics (the widest vectors this build allows):
-    // min/max lane by lane, and x - x summed (NaN for NaN and infinities).
-    const int lanes = cv::v_float32::nlanes;
-    cv::v_float32 l = cv::vx_setall_f32(lo);
-    cv::v_float32 h = cv::vx_setall_f32(hi);
-    cv::v_float32 c = cv::vx_setzero_f32();
-    for (; x + lanes <= count; x += lanes) {
-      const cv::v_float32 v = cv::vx_load(row + x);
-      l = cv::v_min(l, v);
-      h = cv::v_max(h, v);
-      c = c + (v - v);
-    }
-    lo = cv::v_reduce_min(l);
-    hi = cv::v_reduce_max(h);
-    check = check + cv::v_reduce_sum(c);
-#endif
-    for (; x < count; ++x) {
-      lo = std::min(lo, row[x]);
-      hi = std::max(hi, row[x]);
-      check = check + (row[x] - row[x]);
-    }
-  }
-  void Merge(const RangeParts& other) {
-    lo = std::min(lo, other.lo);
-    hi = std::max(hi, other.hi);
-    check = check + other.check;
-  }
-  [[nodiscard]] PixelRange Range() const {
-    return PixelRange{lo, hi, check == 0.0F};
-  }
-};
-
 }  // namespace
 
 cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px,
                             PixelRange* range) {
   assert(image.type() == CV_32FC1 && working_size_px >= 16);
-  // Per stripe of rows: running min/max and a finiteness check (x - x is 0
-  // for finite x and NaN otherwise, so the sum stays 0 only when every
-  // pixel is finite; vectorisable, no branch), merged at the end.
+  // The range: per stripe of rows, merged at the end.
   std::mutex merge;
-  RangeParts all;
-  const auto merge_range = [&](const RangeParts& part) {
+  PixelRangeAccumulator all;
+  const auto merge_range = [&](const PixelRangeAccumulator& part) {
     if (range == nullptr) return;
     const std::lock_guard<std::mutex> lock(merge);
     all.Merge(part);
-  };
-  const auto finish = [&]() {
-    if (range != nullptr) *range = all.Range();
   };
   const double factor =
       std::max(1.0, static_cast<double>(std::max(image.cols, image.rows)) /
                         working_size_px);
   if (!(factor > 1.0)) {
-    if (range != nullptr) {
-      cv::parallel_for_(cv::Range(0, image.rows), [&](const cv::Range& rows) {
-        RangeParts part;
-        for (int y = rows.start; y < rows.end; ++y) {
-          part.Add(image.ptr<float>(y), image.cols);
-        }
-        merge_range(part);
-      });
-    }
-    finish();
+    if (range != nullptr) *range = RangeOfPixels(image);
     return image;
   }
   const int cols =
@@ -182,7 +128,7 @@ cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px,
   cv::Mat small(rows, cols, CV_32FC1);
   cv::parallel_for_(cv::Range(0, rows), [&](const cv::Range& cells) {
     std::vector<float> sum(static_cast<std::size_t>(image.cols));
-    RangeParts part;
+    PixelRangeAccumulator part;
     for (int j = cells.start; j < cells.end; ++j) {
       std::fill(sum.begin(), sum.end(), 0.0F);
       for (int t = y_taps.first[static_cast<std::size_t>(j)];
@@ -209,7 +155,7 @@ cv::Mat ReduceToWorkingSize(const cv::Mat& image, int working_size_px,
     }
     merge_range(part);
   });
-  finish();
+  if (range != nullptr) *range = all.Range();
   return small;
 }
 

@@ -6,6 +6,7 @@
 #include <string>
 
 #include "fringe/circle.h"
+#include "io/pixel_range.h"
 
 namespace figura {
 
@@ -44,14 +45,6 @@ ApertureResult DetectAperture(const cv::Mat& image,
 // options.working_size_px) already at hand.
 ApertureResult DetectAperture(const cv::Mat& image, const cv::Mat& reduced,
                               const ApertureOptions& options = {});
-
-// Smallest and largest pixel value of an image (in its own units), and
-// whether every pixel is finite (lo and hi are meaningless otherwise).
-struct PixelRange {
-  float lo = 0.0F;
-  float hi = 0.0F;
-  bool finite = true;
-};
 
 // `image` (CV_32FC1) reduced by area averaging (cv::INTER_AREA) so that its
 // larger side is at most `working_size_px` (at least 16 px a side); the

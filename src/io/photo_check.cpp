@@ -6,6 +6,7 @@
 #include <sstream>
 
 #include "core/error.h"
+#include "io/pixel_range.h"
 
 namespace figura {
 
@@ -18,14 +19,21 @@ std::string PhotoProblem(const Image& image) {
     return s.str();
   }
   CV_Assert(p.type() == CV_32FC1);
-  float lo = std::numeric_limits<float>::infinity();
-  float hi = -lo;
-  for (int y = 0; y < p.rows; ++y) {
-    const auto* row = p.ptr<float>(y);
-    for (int x = 0; x < p.cols; ++x) {
-      if (!std::isfinite(row[x])) continue;
-      lo = std::min(lo, row[x]);
-      hi = std::max(hi, row[x]);
+  // One vectorised pass; only an image with non-finite pixels needs the
+  // range of its finite ones.
+  const PixelRange all = RangeOfPixels(p);
+  float lo = all.lo;
+  float hi = all.hi;
+  if (!all.finite) {
+    lo = std::numeric_limits<float>::infinity();
+    hi = -lo;
+    for (int y = 0; y < p.rows; ++y) {
+      const auto* row = p.ptr<float>(y);
+      for (int x = 0; x < p.cols; ++x) {
+        if (!std::isfinite(row[x])) continue;
+        lo = std::min(lo, row[x]);
+        hi = std::max(hi, row[x]);
+      }
     }
   }
   if (!(lo <= hi))
