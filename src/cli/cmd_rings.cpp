@@ -152,7 +152,7 @@ int Run(const std::vector<std::string>& args) {
     if (result.status == Status::kError) {
       std::cerr << "figura rings: error: " << diameters << ": "
                 << (result.messages.empty() ? "fit failed"
-                                            : result.messages.front())
+                                            : result.messages.back())
                 << "\n";
       return kExitInput;
     }

@@ -1,7 +1,6 @@
 #include "fringe/ring_diameters.h"
 
 #include <charconv>
-#include <cmath>
 #include <set>
 #include <string>
 
@@ -25,20 +24,6 @@ std::vector<std::string_view> SplitCommas(std::string_view line) {
     start = comma + 1;
   }
   return fields;
-}
-
-// True when every number of the diameter fit that reaches a report is
-// finite.
-bool FitNumbersFinite(const RingFitResult& f) {
-  const double numbers[] = {
-      f.radius_m,      f.radius_u_m,      f.radius_u95_m,        f.gap_radius_m,
-      f.part_radius_m, f.part_radius_u_m, f.part_radius_u95_m,   f.deviation_m,
-      f.order_offset,  f.order_offset_u,  f.aperture_diameter_m, f.sag_m,
-      f.power_fringes, f.power_u_fringes};
-  for (const double v : numbers) {
-    if (!std::isfinite(v)) return false;
-  }
-  return true;
 }
 
 std::string Lower(std::string_view s) {
@@ -161,14 +146,6 @@ RingFitResult FitRingDiameters(const std::vector<RingDiameter>& rings,
         "needed for an "
         "uncertainty");
     fit.status = Status::kWarning;
-  }
-  // Diameters far beyond any bench (e.g. 1e260 mm) overflow r^2 in the fit
-  // and would leave an infinite or NaN radius: refuse the fit instead.
-  if (fit.status != Status::kError && !FitNumbersFinite(fit)) {
-    fit.status = Status::kError;
-    fit.messages.emplace_back(
-        "the ring diameters give no finite radius of curvature (values out "
-        "of range)");
   }
   // The result carries the user's pitch, not the internal unit.
   fit.centre_px = {0.0, 0.0};

@@ -11,6 +11,9 @@
 #include <numbers>
 #include <set>
 #include <sstream>
+#include <string>
+#include <utility>
+#include <vector>
 
 #include "optics/sphere.h"
 
@@ -144,6 +147,47 @@ std::string Format(double value, int digits = 4) {
   out.precision(digits);
   out << value;
   return out.str();
+}
+
+// Which reported number of `fit` is unusable (e.g. "radius is infinite"): a
+// radius, uncertainty, part radius, deviation, order offset, aperture
+// diameter (and in image mode centre and astigmatism) that is not finite,
+// or a zero radius; sag, power and its uncertainty only when
+// `sag_defined` (they are NaN by design when the aperture is wider than
+// the sphere). Empty when every number is usable.
+std::string UnusableNumber(const RingFitResult& fit, bool sag_defined) {
+  if (fit.radius_m == 0.0) return "radius is zero";
+  std::vector<std::pair<const char*, double>> numbers = {
+      {"radius", fit.radius_m},
+      {"radius uncertainty", fit.radius_u_m},
+      {"expanded radius uncertainty", fit.radius_u95_m},
+      {"part radius", fit.part_radius_m},
+      {"part radius uncertainty", fit.part_radius_u_m},
+      {"expanded part radius uncertainty", fit.part_radius_u95_m},
+      {"radius deviation", fit.deviation_m},
+      {"order offset", fit.order_offset},
+      {"order offset uncertainty", fit.order_offset_u},
+      {"aperture diameter", fit.aperture_diameter_m}};
+  if (fit.model == RingModel::kConic) {
+    numbers.insert(numbers.end(),
+                   {{"fringe centre x", fit.centre_px.x},
+                    {"fringe centre y", fit.centre_px.y},
+                    {"fringe centre uncertainty", fit.centre_u_px},
+                    {"astigmatism", fit.astigmatism_fringes},
+                    {"astigmatism uncertainty", fit.astigmatism_u_fringes}});
+  }
+  if (sag_defined) {
+    numbers.insert(numbers.end(), {{"sag", fit.sag_m},
+                                   {"power", fit.power_fringes},
+                                   {"power uncertainty", fit.power_u_fringes}});
+  }
+  for (const auto& [name, value] : numbers) {
+    if (!std::isfinite(value)) {
+      return std::string(name) +
+             (std::isnan(value) ? " is NaN" : " is infinite");
+    }
+  }
+  return {};
 }
 
 }  // namespace
@@ -399,8 +443,11 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
       }
     }
     const bool same = next == inlier;
-    const bool settled = std::abs(part_radius - previous_radius) <=
-                         1e-13 * std::abs(part_radius);
+    // A radius out of double range has no exact-sag terms to settle (they
+    // are left out above); the guard after the loop refuses it.
+    const bool settled = !std::isfinite(part_radius) ||
+                         std::abs(part_radius - previous_radius) <=
+                             1e-13 * std::abs(part_radius);
     previous_radius = part_radius;
     if (same && settled && it >= 2) break;
     if (it >= options.max_iterations && settled) {
@@ -495,14 +542,6 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   out.gap_radius_m = gap_radius;
   const double r_part = 1.0 / (1.0 / gap_radius + 1.0 / r_ref);
   out.radius_m = r_part;
-  // Absurd lengths (e.g. a pixel pitch of 1e200 m) overflow or underflow
-  // the radius: an error with a reason, never a result without a radius.
-  if (!std::isfinite(r_part) || r_part == 0.0) {
-    return fail(
-        "the fit gives no finite radius of curvature (it over- or "
-        "underflows: check --pixel-pitch, the wavelength and "
-        "--reference-radius)");
-  }
   out.centre_px = {centre_guess_px.x + scale * xc,
                    centre_guess_px.y + scale * yc};
   const double value_c = Evaluate(q, xc, yc);
@@ -640,8 +679,10 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
     }
   }
 
-  // Sag and power over the aperture from the exact sags.
-  if (half < abs_r) {
+  // Sag and power over the aperture from the exact sags; undefined (NaN)
+  // where the aperture is wider than the sphere.
+  const bool sag_defined = half < abs_r;
+  if (sag_defined) {
     out.sag_m = SphereSag(r_part, half);
     const double ref_sag = std::isfinite(r_ref) && half < std::abs(r_ref)
                                ? SphereSag(r_ref, half)
@@ -653,7 +694,7 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   } else {
     out.sag_m = kNaN;
     out.power_fringes = kNaN;
-    out.messages.push_back("the aperture is wider than the fitted sphere");
+    out.power_u_fringes = kNaN;
   }
 
   // Astigmatism: principal values of the quadratic part (orders per px^2).
@@ -672,6 +713,26 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
         -theta_img * 180.0 / std::numbers::pi;  // surface coordinates, y up
     deg = std::fmod(deg + 360.0, 180.0);
     out.astigmatism_axis_deg = deg;
+  }
+
+  // The one finiteness guard of the fit, for image and diameter mode alike
+  // (a non-finite number never reaches a report). Valid but absurd inputs
+  // end here: ring diameters of 1e260 mm overflow r^2, a plate radius of
+  // 1e-320 m underflows the part radius to zero, a reference-radius
+  // uncertainty of 1e308 m overflows U95.
+  if (const std::string bad = UnusableNumber(out, sag_defined); !bad.empty()) {
+    return fail(
+        "the fit gives no finite radius of curvature (values out of "
+        "range: the " +
+        bad +
+        "; check the pixel pitch or ring diameters, the wavelength "
+        "and the reference radius)");
+  }
+  if (!sag_defined) {
+    out.messages.push_back(
+        "the aperture is wider than the fitted sphere (half-aperture " +
+        FormatLength(Length::Metres(half)) + " > |R| = " +
+        FormatLength(Length::Metres(abs_r)) + "): no sag or power over it");
   }
 
   // Residuals per input point, ring count, statistics.

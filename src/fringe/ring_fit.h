@@ -166,6 +166,8 @@ struct RingFitResult {
   // diameter, else the evaluated aperture.
   double aperture_diameter_m = 0.0;
   bool over_test_diameter = false;  // aperture_diameter_m is the test diameter
+  // Sag and power are NaN, with a warning, when the aperture is wider than
+  // the fitted sphere (half of it beyond |R|).
   double sag_m = 0.0;  // exact sphere sag of the part over the aperture
   double power_fringes =
       0.0;  // gap change centre -> edge in fringes (exact sags), signed:
@@ -214,7 +216,10 @@ inline constexpr double kDetectionCentrePx = 0.08;  // px * N
 
 // Fits the ring model. `centre_guess_px` anchors the coordinates (and is the
 // fixed centre of the isotropic models). Throws InputError for invalid
-// options; returns status kError with a reason for unusable data.
+// options; returns status kError with a reason for unusable data, and for a
+// result with a reported number (radius, uncertainties, order offset,
+// aperture, centre, astigmatism, and sag and power where defined) that is
+// not finite.
 RingFitResult FitRings(const std::vector<RingFitPoint>& points,
                        const RingFitOptions& options,
                        cv::Point2d centre_guess_px,

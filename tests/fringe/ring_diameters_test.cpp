@@ -6,12 +6,14 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <nlohmann/json.hpp>
 #include <random>
 #include <sstream>
 #include <string>
 
 #include "check_record.h"
 #include "core/error.h"
+#include "fringe/ring_analysis.h"
 #include "optics/sphere.h"
 
 namespace figura {
@@ -114,20 +116,26 @@ TEST(RingDiameters, LeastSquaresWithUncertainty) {
   EXPECT_GE(covered_e, trials * 88 / 100);
 }
 
-TEST(RingDiameters, BrightRingsOnlyAreCounted) {
-  // Bright rings of a sphere on a flat in air, reflected light: dark centre,
-  // maxima at r^2 = (m + 1/2) lambda R (Hecht, Optics, sec. 9.4).
-  const double lambda = 589.3e-9;
-  const double radius = 1.0;
+// The diameter table of the bright rings m = 1..last of a sphere of radius
+// R (m) on a flat in air, reflected light: dark centre, maxima at
+// r^2 = (m + 1/2) lambda R (Hecht, Optics, sec. 9.4).
+std::string BrightRingsCsv(double lambda, double radius, int last) {
   std::ostringstream csv;
   csv << "order,diameter,kind\n";
   csv.precision(10);
-  for (int m = 1; m <= 8; ++m) {
+  for (int m = 1; m <= last; ++m) {
     const double r = std::sqrt((m + 0.5) * lambda * radius);
     csv << m << "," << 2.0 * r * 1e3 << "mm,bright\n";
   }
+  return csv.str();
+}
+
+TEST(RingDiameters, BrightRingsOnlyAreCounted) {
+  const double lambda = 589.3e-9;
+  const double radius = 1.0;
   const RingFitResult fit = FitRingDiameters(
-      ParseRingDiameters(csv.str(), "bright.csv"), Options(lambda));
+      ParseRingDiameters(BrightRingsCsv(lambda, radius, 8), "bright.csv"),
+      Options(lambda));
   ASSERT_NE(fit.status, Status::kError) << fit.messages.front();
   EXPECT_EQ(fit.ring_count, 8);
   EXPECT_NEAR(fit.radius_m, radius, 1e-5);
@@ -176,6 +184,42 @@ TEST(RingDiameters, DiametersThatOverflowTheFitAreAnError) {
       ParseRingDiameters(three_rings, "huge3.csv"), Options(546.07e-9));
   EXPECT_EQ(fit3.status, Status::kError);
   EXPECT_FALSE(fit3.messages.empty());
+}
+
+// Sag and power are undefined, not out of range, when the evaluated
+// aperture is wider than the sphere (no point of a sphere of radius R lies
+// farther than R from its axis): the fit stays a usable result with R, its
+// uncertainty and a warning, and the JSON gives sag and power as null.
+TEST(RingDiameters, ApertureWiderThanTheSphereKeepsTheRadius) {
+  // Bright rings of a 500 mm sphere on a flat read over a 1.2 m aperture
+  // (half 0.6 m > R).
+  const double lambda = 589.3e-9;
+  const double radius = 0.5;
+  RingsOptions options;
+  options.fit = Options(lambda);
+  options.fit.aperture_diameter = Length::Metres(1.2);
+  const RingsResult r = AnalyseRingDiameters(
+      ParseRingDiameters(BrightRingsCsv(lambda, radius, 6), "wide.csv"),
+      options.fit);
+  ASSERT_EQ(r.status, Status::kWarning)
+      << (r.messages.empty() ? "" : r.messages.back());
+  // The paraxial rings and the exact-sag fit differ by about (r/R)^2/4.
+  EXPECT_NEAR(r.fit.radius_m, radius, 1e-5 * radius);
+  EXPECT_TRUE(r.fit.has_uncertainty);
+  EXPECT_TRUE(std::isfinite(r.fit.radius_u95_m));
+  EXPECT_TRUE(std::isnan(r.fit.sag_m));
+  EXPECT_TRUE(std::isnan(r.fit.power_fringes));
+  EXPECT_TRUE(std::isnan(r.fit.power_u_fringes));
+  ASSERT_FALSE(r.messages.empty());
+  EXPECT_NE(r.messages.back().find("wider than the fitted sphere"),
+            std::string::npos)
+      << r.messages.back();
+  const nlohmann::json j = RingsJson(r, options, nlohmann::json::object());
+  EXPECT_EQ(j["status"]["state"], "warning") << j["status"].dump();
+  EXPECT_TRUE(j["sag_um"].is_null());
+  EXPECT_TRUE(j["power_fringes"].is_null());
+  EXPECT_TRUE(j["power_u_fringes"].is_null());
+  EXPECT_NEAR(j["radius_of_curvature_mm"].get<double>(), 500.0, 5e-3);
 }
 
 TEST(RingDiameters, ReadableErrors) {

@@ -479,6 +479,64 @@ TEST(RingFit, AbsurdPitchIsRefused) {
       << fit.messages.back();
 }
 
+// Sag and power are undefined, not out of range, when the evaluated
+// aperture is wider than the sphere (no point of a sphere of radius R lies
+// farther than R from its axis): a usable result with R and a warning.
+TEST(RingFit, ApertureWiderThanTheSphereKeepsTheRadius) {
+  const Truth t;  // R = 200 mm
+  RingFitOptions o = OptionsFor(t);
+  o.aperture_diameter = Length::Metres(0.5);  // half 250 mm > R
+  const RingFitResult fit = FitRings(MakePoints(t), o, Guess(t));
+  ASSERT_EQ(fit.status, Status::kWarning)
+      << (fit.messages.empty() ? "" : fit.messages.back());
+  EXPECT_NEAR(fit.radius_m / t.part_radius, 1.0, 1e-9);
+  EXPECT_TRUE(std::isfinite(fit.radius_u95_m));
+  EXPECT_TRUE(std::isnan(fit.sag_m));
+  EXPECT_TRUE(std::isnan(fit.power_fringes));
+  EXPECT_TRUE(std::isnan(fit.power_u_fringes));
+  ASSERT_FALSE(fit.messages.empty());
+  EXPECT_NE(fit.messages.back().find("wider than the fitted sphere"),
+            std::string::npos)
+      << fit.messages.back();
+}
+
+// The fit's one finiteness guard in the image-mode model: fringe points so
+// far out that the radius (proportional to r^2) overflows double range
+// (DBL_MAX = 1.797e308, IEEE 754 binary64), and a finite radius whose
+// expanded uncertainty overflows, are errors with a reason.
+TEST(RingFit, NumbersThatOverflowAreAnError) {
+  const Truth t;
+  // The same points scaled 1e160 times about the centre, sigmas with them:
+  // the normalised fit is unchanged, R ~ r^2 is about 1e318 m.
+  std::vector<RingFitPoint> far = MakePoints(t);
+  for (RingFitPoint& p : far) {
+    p.x_px = t.cx + 1e160 * (p.x_px - t.cx);
+    p.y_px = t.cy + 1e160 * (p.y_px - t.cy);
+    p.sigma_px *= 1e160;
+  }
+  const RingFitResult huge = FitRings(far, OptionsFor(t), Guess(t));
+  EXPECT_EQ(huge.status, Status::kError);
+  EXPECT_EQ(huge.model, RingModel::kConic);
+  ASSERT_FALSE(huge.messages.empty());
+  EXPECT_NE(huge.messages.back().find("no finite radius"), std::string::npos)
+      << huge.messages.back();
+
+  Truth plate;
+  plate.plate_radius = -0.100;
+  plate.part_radius = 0.09995;
+  RingFitOptions o = OptionsFor(plate);
+  o.reference_radius_u = Length::Metres(1e308);  // finite: Check accepts it
+  ASSERT_TRUE(o.Check().empty());
+  const RingFitResult fit = FitRings(MakePoints(plate), o, Guess(plate));
+  EXPECT_EQ(fit.status, Status::kError);
+  ASSERT_FALSE(fit.messages.empty());
+  EXPECT_NE(fit.messages.back().find("no finite radius"), std::string::npos)
+      << fit.messages.back();
+  EXPECT_NE(fit.messages.back().find("uncertainty is infinite"),
+            std::string::npos)
+      << fit.messages.back();
+}
+
 TEST(RingFit, LiquidIndexWorkedExample) {
   // references.md: 10th ring diameter 14 mm in air, 12.7 mm with a liquid
   // -> n = 1.215 (r^2 ~ 1/n_gap).
