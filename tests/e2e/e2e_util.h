@@ -11,6 +11,7 @@
 #include <filesystem>
 #include <regex>
 #include <string>
+#include <utility>
 #include <vector>
 
 namespace figura::e2e {
@@ -40,10 +41,17 @@ inline std::string ReadFile(const fs::path& path) {
 
 // A fresh, empty folder under the build tree's test_tmp.
 inline fs::path TempDir(const std::string& name) {
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / name;
+  fs::path dir = fs::path(FIGURA_TEST_TMP) / name;
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
+}
+
+// A folder under the build tree's test_tmp named `prefix` followed by this
+// process's id (not created): ctest runs the tests of one suite in parallel
+// processes, each of which makes its own inputs there.
+inline fs::path ProcessRoot(const std::string& prefix) {
+  return fs::path(FIGURA_TEST_TMP) / (prefix + std::to_string(::getpid()));
 }
 
 // A file under tests/fixtures.
@@ -51,22 +59,37 @@ inline fs::path Fixture(const std::string& relative) {
   return fs::path(FIGURA_SOURCE_DIR) / "tests/fixtures" / relative;
 }
 
-// Runs `figura ARGS` (ARGS already quoted for the shell), capturing standard
-// output and error into capture_dir/stdout.txt and stderr.txt.
-inline CommandOutcome RunFigura(const std::string& args,
-                                const fs::path& capture_dir) {
+// A path single-quoted for the shell (paths with a ' are not supported).
+// Appending avoids GCC 12's false -Wrestrict on "'" + std::string.
+inline std::string Quote(const fs::path& path) {
+  std::string q(1, '\'');
+  q += path.string();
+  q += '\'';
+  return q;
+}
+
+// Runs the shell command `command` with standard input from /dev/null and
+// standard output and error captured into capture_dir/stdout.txt and
+// stderr.txt (the tail of RunFigura and RunFiguraBounded).
+inline CommandOutcome RunCaptured(std::string command,
+                                  const fs::path& capture_dir) {
   fs::create_directories(capture_dir);
   const fs::path out = capture_dir / "stdout.txt";
   const fs::path err = capture_dir / "stderr.txt";
-  const std::string command = std::string("'") + FIGURA_BINARY + "' " + args +
-                              " >'" + out.string() + "' 2>'" + err.string() +
-                              "' </dev/null";
+  command += " >" + Quote(out) + " 2>" + Quote(err) + " </dev/null";
   const int status = std::system(command.c_str());
   CommandOutcome run;
   run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
   run.out = ReadFile(out);
   run.err = ReadFile(err);
   return run;
+}
+
+// Runs `figura ARGS` (ARGS already quoted for the shell), capturing standard
+// output and error into capture_dir/stdout.txt and stderr.txt.
+inline CommandOutcome RunFigura(const std::string& args,
+                                const fs::path& capture_dir) {
+  return RunCaptured(Quote(FIGURA_BINARY) + " " + args, capture_dir);
 }
 
 // As above, capturing into a folder named after `tag` under test_tmp.
@@ -86,15 +109,6 @@ inline int CountLines(const std::string& text) {
   int lines = 0;
   for (char c : text) lines += c == '\n' ? 1 : 0;
   return lines;
-}
-
-// A path single-quoted for the shell (paths with a ' are not supported).
-// Appending avoids GCC 12's false -Wrestrict on "'" + std::string.
-inline std::string Quote(const fs::path& path) {
-  std::string q(1, '\'');
-  q += path.string();
-  q += '\'';
-  return q;
 }
 
 // Whether a shell command exits 0 (its output discarded).
@@ -148,9 +162,6 @@ inline constexpr int kKilledByTimeout = 137;
 inline CommandOutcome RunFiguraBounded(const std::string& args,
                                        const fs::path& capture_dir,
                                        const RunBounds& bounds) {
-  fs::create_directories(capture_dir);
-  const fs::path out = capture_dir / "stdout.txt";
-  const fs::path err = capture_dir / "stderr.txt";
   std::string command = "timeout -s KILL " + std::to_string(bounds.seconds);
 #ifdef FIGURA_SANITIZER_BUILD
   // AddressSanitizer reserves terabytes of shadow address space at start-up,
@@ -165,13 +176,7 @@ inline CommandOutcome RunFiguraBounded(const std::string& args,
   command += Quote(FIGURA_BINARY);
   command += ' ';
   command += args;
-  command += " >" + Quote(out) + " 2>" + Quote(err) + " </dev/null";
-  const int status = std::system(command.c_str());
-  CommandOutcome run;
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  run.out = ReadFile(out);
-  run.err = ReadFile(err);
-  return run;
+  return RunCaptured(std::move(command), capture_dir);
 }
 
 // The words "nan", "inf" or "infinity" (any case, as whole words, with an

@@ -34,24 +34,12 @@
 #include "io/image.h"
 #include "io/image_writer.h"
 
+namespace figura::e2e {
 namespace {
 
-namespace fs = std::filesystem;
-using figura::e2e::CommandOutcome;
-using figura::e2e::CountLines;
-using figura::e2e::NonFiniteTokens;
-using figura::e2e::Quote;
-using figura::e2e::ReadFile;
-using figura::e2e::RunBounds;
-using figura::e2e::RunFiguraBounded;
-
 // One folder per test process (ctest runs the tests of this suite in
-// parallel processes, each of which builds the corpus).
-fs::path Root() {
-  static const fs::path root = fs::path(FIGURA_TEST_TMP) /
-                               ("malformed_e2e_" + std::to_string(::getpid()));
-  return root;
-}
+// parallel processes, each of which builds its inputs).
+fs::path Root() { return ProcessRoot("malformed_e2e_"); }
 
 void WriteBytes(const fs::path& path, const std::string& bytes) {
   std::ofstream(path, std::ios::binary) << bytes;
@@ -210,7 +198,7 @@ class MalformedInputE2e : public ::testing::Test {
         return p.string() + " is not searchable by others";
       }
     }
-    return figura::e2e::CannotRunAsNobody(Root() / "corpus/empty.tif");
+    return CannotRunAsNobody(Root() / "corpus/empty.tif");
   }
 };
 
@@ -323,9 +311,7 @@ TEST_F(MalformedInputE2e, InspectTurnsEachIntoAnErrorRow) {
   fs::remove_all(out);
   fs::create_directories(out);
   if (drop) {
-    ASSERT_EQ(
-        ::chown(out.c_str(), figura::e2e::kNobodyId, figura::e2e::kNobodyId),
-        0);
+    ASSERT_EQ(::chown(out.c_str(), kNobodyId, kNobodyId), 0);
   }
   std::ofstream(Root() / "job.ini") << figura::test::LotJobText();
   RunBounds bounds;
@@ -393,15 +379,14 @@ TEST_F(MalformedInputE2e, InspectTurnsEachIntoAnErrorRow) {
   std::vector<std::string> texts = {run.out, run.err, csv, html_text,
                                     ReadFile(out / "summary.json")};
   // Each part's JSON, and its PDF's text (poppler's pdftotext, test-only).
-  const bool pdftotext = figura::e2e::Succeeds("command -v pdftotext");
+  const bool pdftotext = Succeeds("command -v pdftotext");
   for (const auto& p : summary["parts"]) {
     if (!p["result_json"].get<std::string>().empty())
       texts.push_back(ReadFile(out / p["result_json"].get<std::string>()));
     const std::string pdf = p["pdf"];
     if (pdf.empty() || !pdftotext) continue;
     const fs::path txt = Root() / (p["part"].get<std::string>() + ".txt");
-    ASSERT_TRUE(figura::e2e::Succeeds("pdftotext " + Quote(out / pdf) + " " +
-                                      Quote(txt)));
+    ASSERT_TRUE(Succeeds("pdftotext " + Quote(out / pdf) + " " + Quote(txt)));
     texts.push_back(ReadFile(txt));
   }
   for (const std::string& text : texts) {
@@ -411,3 +396,4 @@ TEST_F(MalformedInputE2e, InspectTurnsEachIntoAnErrorRow) {
 }
 
 }  // namespace
+}  // namespace figura::e2e

@@ -24,22 +24,12 @@
 #include "e2e/e2e_util.h"
 #include "inspect/sim_lot.h"
 
+namespace figura::e2e {
 namespace {
 
-namespace fs = std::filesystem;
-using figura::e2e::CommandOutcome;
-using figura::e2e::CountLines;
-using figura::e2e::LeftoverTemps;
-using figura::e2e::Quote;
-using figura::e2e::ReadFile;
-using figura::e2e::RunBounds;
-using figura::e2e::RunFiguraBounded;
-
-fs::path Root() {
-  static const fs::path root =
-      fs::path(FIGURA_TEST_TMP) / ("output_e2e_" + std::to_string(::getpid()));
-  return root;
-}
+// One folder per test process (ctest runs the tests of this suite in
+// parallel processes, each of which builds its inputs).
+fs::path Root() { return ProcessRoot("output_e2e_"); }
 
 constexpr const char* kRingOptions =
     " --wavelength 546.07nm --pixel-pitch 32um";
@@ -61,7 +51,7 @@ class OutputSafetyE2e : public ::testing::Test {
     // A carrier-fringe photo for `map`: the demo window (images_demo).
     const fs::path gap =
         fs::path(FIGURA_SOURCE_DIR) / "images_demo/flat-w01.ini";
-    const CommandOutcome sim = figura::e2e::RunFigura(
+    const CommandOutcome sim = RunFigura(
         "simulate --gap " + Quote(gap) + " --out " + Quote(MapPhoto()),
         Root() / "cap-sim");
     ASSERT_EQ(sim.exit_code, 0) << sim.err;
@@ -151,7 +141,7 @@ TEST_F(OutputSafetyE2e, ReadOnlyFolderGivesOneLineAndLeavesItEmpty) {
   fs::create_directories(ro);
   RunBounds bounds;
   if (::geteuid() == 0) {
-    const std::string why = figura::e2e::CannotRunAsNobody(Photo());
+    const std::string why = CannotRunAsNobody(Photo());
     if (!why.empty()) GTEST_SKIP() << why;
     bounds.as_nobody = true;
   }
@@ -284,3 +274,4 @@ TEST_F(OutputSafetyE2e, InterruptedLotResumesToTheSameSummary) {
 }
 
 }  // namespace
+}  // namespace figura::e2e

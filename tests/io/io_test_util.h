@@ -23,48 +23,15 @@
 #include <vector>
 
 #include "core/sha256.h"
+#include "scratch_dir.h"
 
 namespace figura::io_test {
 
 namespace fs = std::filesystem;
 
-// Suffix that keeps scratch folders of concurrent test processes apart
-// (ctest runs each test in its own process, several at a time).
-inline std::string ProcessSuffix() {
-  std::string suffix(1, '-');
-  suffix += std::to_string(::getpid());
-  return suffix;
-}
-
-// Removes this process's scratch folders when the test program exits.
-struct ScratchCleanup {
-  ScratchCleanup() = default;
-  ScratchCleanup(const ScratchCleanup&) = delete;
-  ScratchCleanup& operator=(const ScratchCleanup&) = delete;
-  ~ScratchCleanup() {
-    std::error_code ec;
-    const fs::path root = fs::path(FIGURA_TEST_TMP) / "io";
-    const std::string suffix = ProcessSuffix();
-    for (const auto& e : fs::directory_iterator(root, ec)) {
-      const std::string name = e.path().filename().string();
-      if (name.size() > suffix.size() &&
-          name.compare(name.size() - suffix.size(), suffix.size(), suffix) ==
-              0) {
-        fs::remove_all(e.path(), ec);
-      }
-    }
-  }
-};
-inline ScratchCleanup g_scratch_cleanup;
-
-// A fresh, empty folder for one test under FIGURA_TEST_TMP, private to this
-// process.
+// A fresh, empty folder under FIGURA_TEST_TMP/io, private to this process.
 inline fs::path ScratchDir(const std::string& name) {
-  const fs::path dir =
-      fs::path(FIGURA_TEST_TMP) / "io" / (name + ProcessSuffix());
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
+  return test::ScratchDir("io", name);
 }
 
 inline void WriteBytes(const fs::path& path, const std::string& bytes) {
@@ -324,7 +291,7 @@ inline int CachedPython(const std::string& name, const std::string& script,
       cache / (name + "-" + Sha256Hex(kPythonPreamble + script).substr(0, 16));
   if (fs::exists(*dir / "done")) return 0;
   fs::create_directories(cache);
-  const fs::path work = cache / (name + ".tmp" + ProcessSuffix());
+  const fs::path work = cache / (name + ".tmp" + test::ProcessSuffix());
   fs::remove_all(work);
   fs::create_directories(work);
   const int rc = RunPython(

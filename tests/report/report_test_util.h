@@ -13,45 +13,17 @@
 #include <fstream>
 #include <sstream>
 #include <string>
-#include <system_error>
+
+#include "scratch_dir.h"
 
 namespace figura::report_test {
 
 namespace fs = std::filesystem;
 
-// Removes this process's scratch folders when the test program exits, unless
-// FIGURA_KEEP_TEST_FILES is set (to look at the PDFs).
-struct ScratchCleanup {
-  ScratchCleanup() = default;
-  ScratchCleanup(const ScratchCleanup&) = delete;
-  ScratchCleanup& operator=(const ScratchCleanup&) = delete;
-  ~ScratchCleanup() {
-    if (std::getenv("FIGURA_KEEP_TEST_FILES") != nullptr) return;
-    std::error_code ec;
-    std::string suffix(1, '-');
-    suffix += std::to_string(::getpid());
-    for (const auto& e :
-         fs::directory_iterator(fs::path(FIGURA_TEST_TMP) / "report", ec)) {
-      const std::string name = e.path().filename().string();
-      if (name.size() > suffix.size() &&
-          name.compare(name.size() - suffix.size(), suffix.size(), suffix) ==
-              0) {
-        fs::remove_all(e.path(), ec);
-      }
-    }
-  }
-};
-inline ScratchCleanup g_scratch_cleanup;
-
-// A fresh, empty folder under FIGURA_TEST_TMP, private to this process.
+// A fresh, empty folder under FIGURA_TEST_TMP/report, private to this
+// process (kept when FIGURA_KEEP_TEST_FILES is set, to look at the PDFs).
 inline fs::path ScratchDir(const std::string& name) {
-  std::string folder = name;
-  folder += '-';
-  folder += std::to_string(::getpid());
-  const fs::path dir = fs::path(FIGURA_TEST_TMP) / "report" / folder;
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
+  return test::ScratchDir("report", name);
 }
 
 // `s` quoted for /bin/sh.
