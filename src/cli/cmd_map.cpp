@@ -7,15 +7,16 @@
 #include <filesystem>
 #include <iostream>
 #include <limits>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "cli/command.h"
 #include "cli/options.h"
+#include "cli/photo_input.h"
 #include "core/error.h"
 #include "io/image.h"
 #include "io/image_writer.h"
-#include "io/photo_check.h"
 #include "io/result_json.h"
 #include "report/surface_picture.h"
 #include "surface/surface_map.h"
@@ -117,17 +118,10 @@ int Run(const std::vector<std::string>& args) {
   nlohmann::json all = nlohmann::json::array();
   std::ostream& out = json_path == "-" ? std::cerr : std::cout;
   for (const std::string& path : images) {
-    Image image;
-    try {
-      image = LoadImage(path);
-      CheckPhoto(image);
-    } catch (const InputError& e) {
-      std::cerr << "figura map: error: " << e.what() << "\n";
-      exit_code = kExitInput;
-      all.push_back(
-          InputErrorJson({{"path", path}}, MapSettingsJson(options), e.what()));
-      continue;
-    }
+    const std::optional<Image> photo =
+        LoadPhoto("map", path, MapSettingsJson(options), &all, &exit_code);
+    if (!photo) continue;
+    const Image& image = *photo;
     const MapResult result = AnalyseMap(image, options);
     out << MapSummary(result, options, path);
     all.push_back(MapJson(result, options, InputJson(image.info)));

@@ -11,12 +11,12 @@
 
 #include "cli/command.h"
 #include "cli/options.h"
+#include "cli/photo_input.h"
 #include "core/error.h"
 #include "core/sha256.h"
 #include "core/text_file.h"
 #include "fringe/ring_analysis.h"
 #include "io/image.h"
-#include "io/photo_check.h"
 #include "io/result_json.h"
 #include "report/ring_overlay.h"
 #include "report/ring_plot.h"
@@ -163,17 +163,10 @@ int Run(const std::vector<std::string>& args) {
   nlohmann::json all = nlohmann::json::array();
   std::ostream& out = json_path == "-" ? std::cerr : std::cout;
   for (const std::string& path : images) {
-    Image image;
-    try {
-      image = LoadImage(path);
-      CheckPhoto(image);
-    } catch (const InputError& e) {
-      std::cerr << "figura rings: error: " << e.what() << "\n";
-      exit_code = kExitInput;
-      all.push_back(InputErrorJson(
-          {{"path", path}}, RingsSettingsJson(options, false), e.what()));
-      continue;
-    }
+    const std::optional<Image> photo = LoadPhoto(
+        "rings", path, RingsSettingsJson(options, false), &all, &exit_code);
+    if (!photo) continue;
+    const Image& image = *photo;
     const RingsResult result = AnalyseRings(image, options);
     out << RingsSummary(result, path);
     all.push_back(RingsJson(result, options, InputJson(image.info)));
