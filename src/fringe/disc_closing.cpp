@@ -85,9 +85,9 @@ cv::Mat Morph(const cv::Mat& src, const std::vector<int>& half, int radius) {
         for (int y = range.start; y < range.end; ++y) {
           float* o = out.ptr<float>(y);
           bool first = true;
-          for (int dy = -radius; dy <= radius; ++dy) {
-            const int w = half[static_cast<std::size_t>(dy + radius)];
-            const int sy = y + dy;
+          for (int k = 0; k <= 2 * radius; ++k) {
+            const int w = half[static_cast<std::size_t>(k)];
+            const int sy = y + k - radius;
             if (w < 0 || sy < 0 || sy >= rows) continue;
             const float* l = lines.data() +
                              static_cast<std::size_t>(w) * plane +
