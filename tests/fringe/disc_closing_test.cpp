@@ -49,8 +49,8 @@ TEST(DiscClosing, EqualsOpenCvMorphologyEx) {
 // A dark ring narrower than the disc is filled; a bright disc larger than
 // the element keeps its edge (closing is extensive and idempotent).
 TEST(DiscClosing, FillsNarrowDarkRingsAndIsIdempotent) {
-  cv::Mat image(101, 101, CV_32FC1, cv::Scalar(1.0F));
-  cv::circle(image, {50, 50}, 30, cv::Scalar(0.0F), 2);
+  cv::Mat image(101, 101, CV_32FC1, cv::Scalar(1.0));
+  cv::circle(image, {50, 50}, 30, cv::Scalar(0.0), 2);
   const cv::Mat closed = CloseWithDisc(image, 5);
   double lo = 0.0;
   double hi = 0.0;

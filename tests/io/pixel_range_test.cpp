@@ -35,7 +35,7 @@ TEST(PixelRange, AnyNonFinitePixelMakesItNotFinite) {
   for (const int cols : {5, 8, 29}) {
     for (const float value : bad) {
       for (const int at : {0, cols / 2, cols - 1}) {
-        cv::Mat image(4, cols, CV_32FC1, cv::Scalar(2.5F));
+        cv::Mat image(4, cols, CV_32FC1, cv::Scalar(2.5));
         image.at<float>(3, at) = value;
         EXPECT_FALSE(RangeOfPixels(image).finite)
             << cols << " " << value << " at " << at;
