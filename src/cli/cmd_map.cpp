@@ -3,7 +3,6 @@
 // (surface/surface_map.h) per image and writes the summary, JSON, the height
 // map (32-bit float TIFF in nm, NaN outside) and the false-colour picture.
 // One image gives one JSON object; several give an array in input order.
-#include <cctype>
 #include <filesystem>
 #include <iostream>
 #include <limits>
@@ -96,20 +95,10 @@ int Run(const std::vector<std::string>& args) {
         ToPoint(ParsePixelPoint(aperture_centre, "--aperture-centre"));
   }
   if (!aperture_diameter.empty()) {
-    const std::string_view t = Trim(aperture_diameter);
-    const bool has_unit =
-        !t.empty() && std::isalpha(static_cast<unsigned char>(t.back())) != 0;
-    if (has_unit) {
-      const Length d = ParseLength(t, "--aperture-diameter");
-      if (!options.pixel_pitch_m) {
-        throw InputError(
-            "--aperture-diameter: a length needs --pixel-pitch (or give "
-            "pixels, e.g. 480)");
-      }
-      options.aperture_diameter_px = d.metres / *options.pixel_pitch_m;
-    } else {
-      options.aperture_diameter_px = ParseNumber(t, "--aperture-diameter");
-    }
+    options.aperture_diameter_px =
+        ParsePixelsOrLength(aperture_diameter, "--aperture-diameter")
+            .Pixels(options.pixel_pitch_m, "--aperture-diameter",
+                    "--pixel-pitch");
   }
   if (std::string why = options.Check(); !why.empty()) throw InputError(why);
 

@@ -2,7 +2,6 @@
 // and validates the options, then calls the library (fringe/ring_analysis.h)
 // per input and writes the summary, JSON, overlay and plot. One image gives
 // one JSON object; several give an array of objects in input order.
-#include <cctype>
 #include <filesystem>
 #include <iostream>
 #include <optional>
@@ -107,24 +106,16 @@ int Run(const std::vector<std::string>& args) {
         ToPoint(ParsePixelPoint(aperture_centre, "--aperture-centre"));
   }
   if (!aperture_diameter.empty()) {
-    const std::string_view t = Trim(aperture_diameter);
-    const bool has_unit =
-        !t.empty() && std::isalpha(static_cast<unsigned char>(t.back())) != 0;
-    if (has_unit) {
-      const Length d = ParseLength(t, "--aperture-diameter");
-      fit.aperture_diameter = d;
-      if (!diameter_mode) {
-        options.detection.aperture_diameter_px =
-            d.metres / fit.pixel_pitch.metres;
-      }
-    } else {
-      if (diameter_mode) {
-        throw InputError(
-            "--aperture-diameter: with --diameters give a length, e.g. 25mm");
-      }
-      const double px = ParseNumber(t, "--aperture-diameter");
-      options.detection.aperture_diameter_px = px;
-      fit.aperture_diameter = Length::Metres(px * fit.pixel_pitch.metres);
+    const PixelsOrLength d =
+        ParsePixelsOrLength(aperture_diameter, "--aperture-diameter");
+    if (diameter_mode && !d.length) {
+      throw InputError(
+          "--aperture-diameter: with --diameters give a length, e.g. 25mm");
+    }
+    fit.aperture_diameter = d.ToLength(fit.pixel_pitch.metres);
+    if (!diameter_mode) {
+      options.detection.aperture_diameter_px = d.Pixels(
+          fit.pixel_pitch.metres, "--aperture-diameter", "--pixel-pitch");
     }
   }
   if (std::string why = diameter_mode ? fit.Check() : options.Check();

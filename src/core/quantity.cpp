@@ -94,6 +94,46 @@ double ParseNumber(std::string_view text, std::string_view what) {
   return value;
 }
 
+PixelsOrLength ParsePixelsOrLength(std::string_view text,
+                                   std::string_view what) {
+  const std::string_view t = Trim(text);
+  double value = 0.0;
+  const std::size_t used = ReadNumber(t, &value);
+  PixelsOrLength size;
+  if (used != 0 && used == t.size() && std::isfinite(value)) {
+    size.pixels = value;
+    return size;
+  }
+  if (used != 0 && used < t.size()) {
+    try {
+      size.length = ParseLength(t, what);
+      return size;
+    } catch (const InputError&) {
+      // Fall through to the message that names both forms.
+    }
+  }
+  throw InputError(Quote(what) + "'" + std::string(text) +
+                   "' is neither pixels (a bare number, e.g. 480) nor a "
+                   "length with a unit (" +
+                   kLengthUnits + ", e.g. 25mm)");
+}
+
+double PixelsOrLength::Pixels(std::optional<double> pixel_pitch_m,
+                              std::string_view what,
+                              std::string_view pitch_option) const {
+  if (!length) return pixels;
+  if (!pixel_pitch_m) {
+    throw InputError(Quote(what) + "a length (" + FormatLength(*length) +
+                     ") needs " + std::string(pitch_option) +
+                     " (or give pixels, e.g. 480)");
+  }
+  return length->metres / *pixel_pitch_m;
+}
+
+Length PixelsOrLength::ToLength(double pixel_pitch_m) const {
+  return length ? *length : Length::Metres(pixels * pixel_pitch_m);
+}
+
 std::string FormatLength(Length length, int digits) {
   const double a = std::fabs(length.metres);
   double scale = 1.0;

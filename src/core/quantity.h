@@ -4,6 +4,7 @@
 #pragma once
 
 #include <array>
+#include <optional>
 #include <string>
 #include <string_view>
 
@@ -40,6 +41,29 @@ Length ParseLength(std::string_view text, std::string_view what = {});
 // Parses a plain finite number (no unit), e.g. a refractive index. Throws
 // InputError naming `what` on anything else.
 double ParseNumber(std::string_view text, std::string_view what = {});
+
+// A size given either in pixels (a bare number, e.g. "480") or as an
+// object-side length with a unit (e.g. "25mm"), as --aperture-diameter takes.
+struct PixelsOrLength {
+  double pixels = 0.0;           // the bare number; used when !length
+  std::optional<Length> length;  // set when the text carried a unit
+
+  // The size in pixels: the bare number, or the length divided by
+  // `pixel_pitch_m` (object-side metres per pixel). A length without a pitch
+  // throws InputError naming `what` and `pitch_option` (the option or key
+  // that gives the pitch).
+  [[nodiscard]] double Pixels(std::optional<double> pixel_pitch_m,
+                              std::string_view what,
+                              std::string_view pitch_option) const;
+  // The size as a length: the length, or the pixels times `pixel_pitch_m`.
+  [[nodiscard]] Length ToLength(double pixel_pitch_m) const;
+};
+
+// Parses pixels (a bare finite number) or a length with a unit (as
+// ParseLength). Throws InputError naming `what` on anything else, saying
+// that both forms are accepted.
+PixelsOrLength ParsePixelsOrLength(std::string_view text,
+                                   std::string_view what);
 
 // A pixel position "X,Y" (two numbers, a comma between), e.g. "512.5,384".
 // Throws InputError naming `what` when the text is not of that form.

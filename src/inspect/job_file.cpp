@@ -1,7 +1,6 @@
 #include "inspect/job_file.h"
 
 #include <algorithm>
-#include <cctype>
 
 #include "core/error.h"
 #include "core/light_source.h"
@@ -159,19 +158,10 @@ RingsOptions RingsOptionsFromSettings(SettingMap& s) {
   }
   if (auto v = s.Take("aperture-diameter")) {
     // Pixels as a bare number, or a length (as `figura rings`).
-    const std::string_view t = Trim(*v);
-    const bool has_unit =
-        !t.empty() && std::isalpha(static_cast<unsigned char>(t.back())) != 0;
-    if (has_unit) {
-      const Length d = ParseLength(t, what("aperture-diameter"));
-      fit.aperture_diameter = d;
-      options.detection.aperture_diameter_px =
-          d.metres / fit.pixel_pitch.metres;
-    } else {
-      const double px = ParseNumber(t, what("aperture-diameter"));
-      options.detection.aperture_diameter_px = px;
-      fit.aperture_diameter = Length::Metres(px * fit.pixel_pitch.metres);
-    }
+    const PixelsOrLength d = ParsePixelsOrLength(*v, what("aperture-diameter"));
+    fit.aperture_diameter = d.ToLength(fit.pixel_pitch.metres);
+    options.detection.aperture_diameter_px = d.Pixels(
+        fit.pixel_pitch.metres, what("aperture-diameter"), what("pixel-pitch"));
   }
   if (std::string why = options.Check(); !why.empty()) throw InputError(why);
   return options;
@@ -228,19 +218,10 @@ MapOptions MapOptionsFromSettings(SettingMap& s) {
         ToPoint(ParsePixelPoint(*v, what("aperture-centre")));
   }
   if (auto v = s.Take("aperture-diameter")) {
-    const std::string_view t = Trim(*v);
-    const bool has_unit =
-        !t.empty() && std::isalpha(static_cast<unsigned char>(t.back())) != 0;
-    if (has_unit) {
-      const Length d = ParseLength(t, what("aperture-diameter"));
-      if (!options.pixel_pitch_m) {
-        throw InputError(what("aperture-diameter") +
-                         ": a length needs pixel-pitch (or give pixels)");
-      }
-      options.aperture_diameter_px = d.metres / *options.pixel_pitch_m;
-    } else {
-      options.aperture_diameter_px = ParseNumber(t, what("aperture-diameter"));
-    }
+    options.aperture_diameter_px =
+        ParsePixelsOrLength(*v, what("aperture-diameter"))
+            .Pixels(options.pixel_pitch_m, what("aperture-diameter"),
+                    what("pixel-pitch"));
   }
   if (std::string why = options.Check(); !why.empty()) throw InputError(why);
   return options;

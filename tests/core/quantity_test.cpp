@@ -2,6 +2,9 @@
 
 #include <gtest/gtest.h>
 
+#include <optional>
+#include <string>
+
 #include "core/error.h"
 
 namespace figura {
@@ -46,6 +49,51 @@ TEST(ParseNumber, PlainNumbersOnly) {
   EXPECT_THROW(ParseNumber("1.5x"), InputError);
   EXPECT_THROW(ParseNumber(""), InputError);
   EXPECT_THROW(ParseNumber("inf"), InputError);
+}
+
+TEST(ParsePixelsOrLength, BareNumberIsPixelsAUnitIsALength) {
+  const PixelsOrLength px = ParsePixelsOrLength(" 480 ", "--aperture-diameter");
+  EXPECT_FALSE(px.length.has_value());
+  EXPECT_DOUBLE_EQ(px.pixels, 480.0);
+  // Pixels need no pitch; as a length they scale by it: 480 x 25 um = 12 mm.
+  EXPECT_DOUBLE_EQ(px.Pixels(std::nullopt, "d", "--pixel-pitch"), 480.0);
+  EXPECT_NEAR(px.ToLength(25e-6).mm(), 12.0, 1e-12);
+
+  const PixelsOrLength mm = ParsePixelsOrLength("12 mm", "--aperture-diameter");
+  ASSERT_TRUE(mm.length.has_value());
+  EXPECT_NEAR(mm.length->mm(), 12.0, 1e-12);
+  EXPECT_NEAR(mm.ToLength(25e-6).mm(), 12.0, 1e-12);
+  EXPECT_NEAR(mm.Pixels(25e-6, "d", "--pixel-pitch"), 480.0, 1e-9);
+  EXPECT_NEAR(ParsePixelsOrLength("12.5\xC2\xB5m", "d").length->um(), 12.5,
+              1e-12);
+}
+
+TEST(ParsePixelsOrLength, ALengthWithoutPitchNamesBothOptions) {
+  const PixelsOrLength mm = ParsePixelsOrLength("12mm", "--aperture-diameter");
+  try {
+    (void)mm.Pixels(std::nullopt, "--aperture-diameter", "--pixel-pitch");
+    FAIL() << "a length without a pixel pitch must be refused";
+  } catch (const InputError& e) {
+    const std::string msg = e.what();
+    EXPECT_NE(msg.find("--aperture-diameter"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("--pixel-pitch"), std::string::npos) << msg;
+  }
+}
+
+TEST(ParsePixelsOrLength, NonsenseNamesTheOptionAndBothForms) {
+  for (const char* text :
+       {"wide", "", "480px", "12 furlongs", "inf", "nan mm", "1e999mm", "mm"}) {
+    SCOPED_TRACE(text);
+    try {
+      (void)ParsePixelsOrLength(text, "--aperture-diameter");
+      FAIL() << "must be refused";
+    } catch (const InputError& e) {
+      const std::string msg = e.what();
+      EXPECT_EQ(msg.rfind("--aperture-diameter: ", 0), 0U) << msg;
+      EXPECT_NE(msg.find("pixels"), std::string::npos) << msg;
+      EXPECT_NE(msg.find("nm, um"), std::string::npos) << msg;
+    }
+  }
 }
 
 TEST(FormatLength, PicksAReadableUnit) {

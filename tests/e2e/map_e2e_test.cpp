@@ -12,6 +12,7 @@
 #include <filesystem>
 #include <fstream>
 #include <nlohmann/json.hpp>
+#include <sstream>
 #include <string>
 
 #include "e2e/e2e_util.h"
@@ -129,6 +130,78 @@ TEST(MapE2e, NoFringesIsExitTwoWithOneLine) {
   EXPECT_EQ(figura::e2e::CountLines(run.err), 1) << run.err;
   EXPECT_NE(run.err.find("uniform.tif"), std::string::npos) << run.err;
   EXPECT_NE(run.err.find("no fringes"), std::string::npos) << run.err;
+}
+
+// --aperture-diameter as pixels and as a length with --pixel-pitch fixes
+// the same aperture: the simulator's truth file gives the demo window's
+// centre and diameter (30 mm / 60 um = 500 px); the map evaluates
+// --aperture-fraction (0.95) of it (docs/cli.md).
+TEST(MapE2e, ApertureDiameterInPixelsOrAsALength) {
+  const fs::path dir = TempDir("map_e2e_aperture");
+  const fs::path gap = fs::path(FIGURA_SOURCE_DIR) / "images_demo/flat-w01.ini";
+  const fs::path photo = dir / "w01.tif";
+  auto run = RunFigura(
+      "simulate --gap '" + gap.string() + "' --out '" + photo.string() + "'",
+      dir / "sim");
+  ASSERT_EQ(run.exit_code, 0) << run.err;
+  const auto truth = nlohmann::json::parse(ReadFile(dir / "w01.truth.json"));
+  const auto& aperture = truth["settings"]["aperture"];
+  const double d_px = aperture["diameter_px"].get<double>();
+  ASSERT_NEAR(d_px, 500.0, 1e-9);  // 30 mm / 60 um
+  std::ostringstream centre, as_px, as_mm;
+  for (std::ostringstream* o : {&centre, &as_px, &as_mm}) o->precision(17);
+  centre << aperture["centre_px"][0].get<double>() << ","
+         << aperture["centre_px"][1].get<double>();
+  as_px << d_px;
+  as_mm << aperture["diameter_mm"].get<double>() << "mm --pixel-pitch 60um";
+  for (const std::string& given : {as_px.str(), as_mm.str()}) {
+    SCOPED_TRACE(given);
+    const fs::path json = dir / "r.json";
+    fs::remove(json);
+    run = RunFigura("map '" + photo.string() +
+                        "' --wavelength helium-d --thin-side left "
+                        "--aperture-centre " +
+                        centre.str() + " --aperture-diameter " + given +
+                        " --json '" + json.string() + "'",
+                    dir / "map");
+    ASSERT_EQ(run.exit_code, 0) << run.err;
+    const auto r = nlohmann::json::parse(ReadFile(json));
+    EXPECT_NEAR(r["settings"]["aperture_diameter_px"].get<double>(), d_px,
+                1e-9);
+    EXPECT_NEAR(r["aperture_diameter_px"].get<double>(), 0.95 * d_px, 1e-9);
+    EXPECT_NEAR(r["aperture_centre_px"][0].get<double>(),
+                aperture["centre_px"][0].get<double>(), 1e-9);
+    EXPECT_FALSE(r["aperture_detected"].get<bool>());
+  }
+}
+
+TEST(MapE2e, ApertureOptionsBadInputOneLineExit2) {
+  const fs::path dir = TempDir("map_e2e_aperture_bad");
+  // The options are checked before the photo is read: no photo needed.
+  const std::string base =
+      "map '" + (dir / "none.tif").string() + "' --wavelength 546.07nm ";
+  // Neither pixels nor a length: one line naming the option and both forms.
+  auto run = RunFigura(
+      base + "--aperture-centre 100,100 --aperture-diameter 12furlongs",
+      dir / "nonsense");
+  EXPECT_EQ(run.exit_code, 2);
+  EXPECT_EQ(figura::e2e::CountLines(run.err), 1) << run.err;
+  EXPECT_NE(run.err.find("--aperture-diameter"), std::string::npos) << run.err;
+  EXPECT_NE(run.err.find("'12furlongs'"), std::string::npos) << run.err;
+  EXPECT_NE(run.err.find("pixels"), std::string::npos) << run.err;
+  // docs/cli.md: a length needs --pixel-pitch.
+  run = RunFigura(base + "--aperture-centre 100,100 --aperture-diameter 12mm",
+                  dir / "no_pitch");
+  EXPECT_EQ(run.exit_code, 2);
+  EXPECT_EQ(figura::e2e::CountLines(run.err), 1) << run.err;
+  EXPECT_NE(run.err.find("--aperture-diameter"), std::string::npos) << run.err;
+  EXPECT_NE(run.err.find("--pixel-pitch"), std::string::npos) << run.err;
+  // docs/cli.md: --aperture-centre needs --aperture-diameter too.
+  run = RunFigura(base + "--aperture-centre 100,100", dir / "centre_only");
+  EXPECT_EQ(run.exit_code, 2);
+  EXPECT_EQ(figura::e2e::CountLines(run.err), 1) << run.err;
+  EXPECT_NE(run.err.find("--aperture-diameter"), std::string::npos) << run.err;
+  EXPECT_EQ(run.err.find("none.tif"), std::string::npos) << run.err;
 }
 
 TEST(MapE2e, BadOptionsAreExitTwo) {
