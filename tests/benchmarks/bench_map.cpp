@@ -15,24 +15,16 @@
 // [practice: the least disturbed run on a shared machine].
 //
 // Usage: figura_bench_map [--reps N] [--dir FOLDER] [--no-peer] [--size WxH]
-#include <sys/resource.h>
-#include <sys/time.h>
-#include <sys/wait.h>
-#include <unistd.h>
-
-#include <algorithm>
-#include <chrono>
 #include <cmath>
 #include <cstdio>
-#include <cstdlib>
 #include <filesystem>
-#include <fstream>
 #include <limits>
 #include <nlohmann/json.hpp>
-#include <sstream>
+#include <optional>
 #include <string>
 #include <vector>
 
+#include "bench_util.h"
 #include "core/error.h"
 #include "core/light_source.h"
 #include "io/image.h"
@@ -41,12 +33,12 @@
 #include "surface/surface_map.h"
 #include "surface/zernike_fit.h"
 
-extern char** environ;  // NOLINT(readability-redundant-declaration)
-
 namespace {
 
 namespace fs = std::filesystem;
-using Clock = std::chrono::steady_clock;
+using figura::bench::Clock;
+using figura::bench::Min;
+using figura::bench::Seconds;
 
 constexpr double kPixelPitchUm = 10.0;
 constexpr int kLastTerm = 14;  // j of the last radial-order-4 term
@@ -79,68 +71,6 @@ figura::SimulationOptions Scene(int width, int height) {
   o.seed = 20261203;
   o.origin = "figura_bench_map";
   return o;
-}
-
-double Seconds(Clock::time_point a, Clock::time_point b) {
-  return std::chrono::duration<double>(b - a).count();
-}
-
-double Min(const std::vector<double>& v) {
-  return v.empty() ? std::nan("") : *std::min_element(v.begin(), v.end());
-}
-
-std::string ReadAll(const fs::path& path) {
-  std::ifstream in(path);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-struct ChildRun {
-  double seconds = 0.0;
-  double peak_mb = 0.0;
-  int exit_code = -1;
-};
-
-// Runs argv with stdout/stderr to files; env entries in `unset` are removed
-// from the child's environment only.
-ChildRun Spawn(const std::vector<std::string>& argv, const fs::path& out_path,
-               const fs::path& err_path,
-               const std::vector<std::string>& unset = {}) {
-  std::vector<std::string> env;
-  for (char** e = environ; *e != nullptr; ++e) {
-    const std::string entry(*e);
-    const std::string key = entry.substr(0, entry.find('='));
-    if (std::find(unset.begin(), unset.end(), key) == unset.end())
-      env.push_back(entry);
-  }
-  std::vector<char*> cargv;
-  std::vector<char*> cenv;
-  cargv.reserve(argv.size() + 1);
-  cenv.reserve(env.size() + 1);
-  for (const auto& a : argv) cargv.push_back(const_cast<char*>(a.c_str()));
-  cargv.push_back(nullptr);
-  for (const auto& e : env) cenv.push_back(const_cast<char*>(e.c_str()));
-  cenv.push_back(nullptr);
-  ChildRun run;
-  std::fflush(nullptr);
-  const auto t0 = Clock::now();
-  const pid_t pid = fork();
-  if (pid == 0) {
-    if (std::freopen(out_path.c_str(), "w", stdout) == nullptr ||
-        std::freopen(err_path.c_str(), "w", stderr) == nullptr)
-      _exit(127);
-    execve(cargv[0], cargv.data(), cenv.data());
-    _exit(127);
-  }
-  if (pid < 0) return run;
-  int status = 0;
-  rusage usage{};
-  wait4(pid, &status, 0, &usage);
-  run.seconds = Seconds(t0, Clock::now());
-  run.peak_mb = static_cast<double>(usage.ru_maxrss) / 1024.0;
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
 }
 
 // The truth's coefficients (nm) over `circle`: the exact gap at the pixel
@@ -185,31 +115,18 @@ double CoefficientError(const nlohmann::json& list,
 }  // namespace
 
 int main(int argc, char** argv) {
-  int reps = 3;
-  fs::path dir = fs::path(FIGURA_BENCH_TMP) / "bench_map";
-  bool peer = true;
-  int width = 4000;
-  int height = 3000;
-  for (int i = 1; i < argc; ++i) {
-    const std::string a = argv[i];
-    if (a == "--reps" && i + 1 < argc) {
-      reps = std::max(1, std::atoi(argv[++i]));
-    } else if (a == "--dir" && i + 1 < argc) {
-      dir = argv[++i];
-    } else if (a == "--no-peer") {
-      peer = false;
-    } else if (a == "--size" && i + 1 < argc) {
-      if (std::sscanf(argv[++i], "%dx%d", &width, &height) != 2) {
-        std::fprintf(stderr, "--size: expected WxH, e.g. 4000x3000\n");
-        return 2;
-      }
-    } else {
-      std::fprintf(stderr,
-                   "usage: figura_bench_map [--reps N] [--dir FOLDER] "
-                   "[--no-peer] [--size WxH]\n");
-      return 2;
-    }
+  figura::bench::BenchArgs args;
+  args.dir = fs::path(FIGURA_BENCH_TMP) / "bench_map";
+  if (!figura::bench::ParseBenchArgs(
+          argc, argv,
+          "figura_bench_map [--reps N] [--dir FOLDER] [--no-peer] [--size WxH]",
+          &args)) {
+    return 2;
   }
+  const int reps = args.reps;
+  const fs::path& dir = args.dir;
+  const int width = args.width;
+  const int height = args.height;
   try {
     fs::create_directories(dir);
     const fs::path image_path = dir / "bench_window.tif";
@@ -227,10 +144,8 @@ int main(int argc, char** argv) {
     options.thin_side = figura::ThinSide::kLeft;
     options.thin_side_given = true;
 
-    const fs::path peer_script =
-        fs::path(FIGURA_SOURCE_DIR) / ".." / "shared/peers/map_peer.py";
-    const bool have_peer =
-        peer && fs::exists(peer_script) && fs::exists("/usr/bin/python3");
+    const std::optional<fs::path> peer_script =
+        args.peer ? figura::bench::FindPeer("map_peer.py") : std::nullopt;
     std::vector<double> decode, analysis, command, peer_s, peak;
     nlohmann::json ours_json, peer_json;
     for (int rep = 0; rep < reps; ++rep) {
@@ -242,43 +157,31 @@ int main(int argc, char** argv) {
       decode.push_back(Seconds(t0, t1));
       analysis.push_back(Seconds(t1, t2));
       if (result.status == figura::Status::kError) {
-        std::printf("analysis failed: %s\n", result.messages.front().c_str());
+        std::printf("analysis failed: %s\n", result.messages.back().c_str());
         return 1;
       }
       const fs::path json = dir / "figura.json";
-      const ChildRun ours =
-          Spawn({FIGURA_BINARY, "map", image_path.string(), "--wavelength",
-                 "helium-d", "--thin-side", "left", "--json", json.string()},
-                dir / "figura.out", dir / "figura.err");
-      if (ours.exit_code != 0) {
-        std::printf("figura map exit %d: %s\n", ours.exit_code,
-                    ReadAll(dir / "figura.err").c_str());
-        return 1;
-      }
-      command.push_back(ours.seconds);
-      peak.push_back(ours.peak_mb);
-      ours_json = nlohmann::json::parse(ReadAll(json));
-      if (have_peer) {
-        const ChildRun theirs =
-            Spawn({"/usr/bin/python3", peer_script.string(),
-                   image_path.string(), std::to_string(lambda_nm)},
-                  dir / "peer.out", dir / "peer.err",
-                  {"OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE"});
-        if (theirs.exit_code != 0) {
-          std::printf("peer exit %d: %s\n", theirs.exit_code,
-                      ReadAll(dir / "peer.err").c_str());
-        } else {
-          peer_s.push_back(theirs.seconds);
-          peer_json = nlohmann::json::parse(ReadAll(dir / "peer.out"));
+      const auto ours = figura::bench::RunFigura(
+          {"map", image_path.string(), "--wavelength", "helium-d",
+           "--thin-side", "left", "--json", json.string()},
+          dir, json);
+      if (!ours) return 1;
+      command.push_back(ours->child.seconds);
+      peak.push_back(ours->child.peak_mb);
+      ours_json = ours->result;
+      std::optional<double> peer_rep_s;
+      if (peer_script) {
+        const auto theirs = figura::bench::RunPeer(
+            *peer_script, {image_path.string(), std::to_string(lambda_nm)},
+            dir);
+        if (theirs) {
+          peer_rep_s = theirs->child.seconds;
+          peer_s.push_back(*peer_rep_s);
+          peer_json = theirs->result;
         }
       }
-      std::printf(
-          "rep %d: decode %.3f s, analysis %.3f s, command %.3f s "
-          "(%.0f MB)%s\n",
-          rep + 1, decode.back(), analysis.back(), command.back(), peak.back(),
-          peer_s.empty()
-              ? ""
-              : (", peer " + std::to_string(peer_s.back()) + " s").c_str());
+      figura::bench::PrintRep(rep, decode.back(), analysis.back(), ours->child,
+                              peer_rep_s);
     }
     std::printf(
         "\nminimum over %d runs, seconds: decode %.3f, analysis "

@@ -15,27 +15,17 @@
 // Usage: figura_bench_rings [--reps N] [--dir FOLDER] [--no-peer]
 //                           [--no-command] [--size WxH]
 // (--no-command: only (a) and (b), e.g. while profiling the analysis.)
-#include <sys/resource.h>
-#include <sys/time.h>
-#include <sys/wait.h>
-#include <unistd.h>
-
 #include <algorithm>
-#include <array>
-#include <chrono>
 #include <cmath>
 #include <cstdio>
-#include <cstdlib>
-#include <cstring>
 #include <ctime>
 #include <filesystem>
-#include <fstream>
 #include <nlohmann/json.hpp>
 #include <optional>
-#include <sstream>
 #include <string>
 #include <vector>
 
+#include "bench_util.h"
 #include "core/error.h"
 #include "core/light_source.h"
 #include "core/quantity.h"
@@ -44,12 +34,14 @@
 #include "optics/media.h"
 #include "sim/simulation.h"
 
-extern char** environ;  // NOLINT(readability-redundant-declaration)
-
 namespace {
 
 namespace fs = std::filesystem;
-using Clock = std::chrono::steady_clock;
+using figura::bench::Clock;
+using figura::bench::Median;
+using figura::bench::Min;
+using figura::bench::ReadAll;
+using figura::bench::Seconds;
 
 // Invented scene: a 1500 mm plano-convex lens on a flat, 18 mm aperture at
 // 6.5 um per pixel (about 2770 px across), mercury green line. Rings in the
@@ -88,76 +80,6 @@ figura::SimulationOptions Scene(int width, int height) {
   return o;
 }
 
-double Seconds(Clock::time_point a, Clock::time_point b) {
-  return std::chrono::duration<double>(b - a).count();
-}
-
-double Min(std::vector<double> v) {
-  return *std::min_element(v.begin(), v.end());
-}
-
-double Median(std::vector<double> v) {
-  std::sort(v.begin(), v.end());
-  const std::size_t n = v.size();
-  return n % 2 == 1 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
-std::string ReadAll(const fs::path& path) {
-  std::ifstream in(path);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-// One spawned process: wall seconds, peak resident set (MB), exit code.
-struct ChildRun {
-  double seconds = 0.0;
-  double peak_mb = 0.0;
-  int exit_code = -1;
-};
-
-// Runs argv with stdout to `out_path` and stderr to `err_path`; env entries
-// in `unset` are removed from the child's environment only.
-ChildRun Spawn(const std::vector<std::string>& argv, const fs::path& out_path,
-               const fs::path& err_path,
-               const std::vector<std::string>& unset = {}) {
-  std::vector<std::string> env;
-  for (char** e = environ; *e != nullptr; ++e) {
-    const std::string entry(*e);
-    const std::string key = entry.substr(0, entry.find('='));
-    if (std::find(unset.begin(), unset.end(), key) == unset.end())
-      env.push_back(entry);
-  }
-  std::vector<char*> cargv;
-  std::vector<char*> cenv;
-  cargv.reserve(argv.size() + 1);
-  cenv.reserve(env.size() + 1);
-  for (const auto& a : argv) cargv.push_back(const_cast<char*>(a.c_str()));
-  cargv.push_back(nullptr);
-  for (const auto& e : env) cenv.push_back(const_cast<char*>(e.c_str()));
-  cenv.push_back(nullptr);
-
-  ChildRun run;
-  std::fflush(nullptr);  // no buffered output duplicated into the child
-  const auto t0 = Clock::now();
-  const pid_t pid = fork();
-  if (pid == 0) {
-    if (std::freopen(out_path.c_str(), "w", stdout) == nullptr ||
-        std::freopen(err_path.c_str(), "w", stderr) == nullptr)
-      _exit(127);
-    execve(cargv[0], cargv.data(), cenv.data());
-    _exit(127);
-  }
-  if (pid < 0) return run;
-  int status = 0;
-  rusage usage{};
-  wait4(pid, &status, 0, &usage);
-  run.seconds = Seconds(t0, Clock::now());
-  run.peak_mb = static_cast<double>(usage.ru_maxrss) / 1024.0;  // KiB on Linux
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  return run;
-}
-
 void PrintRow(const char* what, double value, const char* target, bool ok) {
   std::printf("  %-34s %10.3f   %-10s %s\n", what, value, target,
               ok ? "met" : "NOT met");
@@ -166,35 +88,25 @@ void PrintRow(const char* what, double value, const char* target, bool ok) {
 }  // namespace
 
 int main(int argc, char** argv) {
-  int reps = 3;
-  fs::path dir = fs::path(FIGURA_BENCH_TMP) / "bench_rings";
-  bool peer = true;
+  figura::bench::BenchArgs args;
+  args.dir = fs::path(FIGURA_BENCH_TMP) / "bench_rings";
   bool command_runs = true;  // false: in-process analysis only
-  int width = 4000;
-  int height = 3000;
-  for (int i = 1; i < argc; ++i) {
-    const std::string a = argv[i];
-    if (a == "--reps" && i + 1 < argc) {
-      reps = std::max(1, std::atoi(argv[++i]));
-    } else if (a == "--dir" && i + 1 < argc) {
-      dir = argv[++i];
-    } else if (a == "--no-peer") {
-      peer = false;
-    } else if (a == "--no-command") {
-      command_runs = false;
-      peer = false;
-    } else if (a == "--size" && i + 1 < argc) {
-      if (std::sscanf(argv[++i], "%dx%d", &width, &height) != 2) {
-        std::fprintf(stderr, "--size: expected WxH, e.g. 4000x3000\n");
-        return 2;
-      }
-    } else {
-      std::fprintf(stderr,
-                   "usage: figura_bench_rings [--reps N] [--dir FOLDER] "
-                   "[--no-peer] [--no-command] [--size WxH]\n");
-      return 2;
-    }
+  if (!figura::bench::ParseBenchArgs(
+          argc, argv,
+          "figura_bench_rings [--reps N] [--dir FOLDER] [--no-peer] "
+          "[--no-command] [--size WxH]",
+          &args, [&](const std::string& a) {
+            if (a != "--no-command") return false;
+            command_runs = false;
+            args.peer = false;
+            return true;
+          })) {
+    return 2;
   }
+  const int reps = args.reps;
+  const fs::path& dir = args.dir;
+  const int width = args.width;
+  const int height = args.height;
   try {
     fs::create_directories(dir);
     const fs::path image_path = dir / "bench_lens.tif";
@@ -247,13 +159,8 @@ int main(int argc, char** argv) {
       }
       stages.push_back(t);
     };
-    const fs::path peer_script =
-        fs::path(FIGURA_SOURCE_DIR) / ".." / "shared/peers/rings_peer.py";
-    const bool have_peer =
-        peer && fs::exists(peer_script) && fs::exists("/usr/bin/python3");
-    if (peer && !have_peer)
-      std::printf("peer skipped: %s or /usr/bin/python3 not found\n",
-                  peer_script.c_str());
+    const std::optional<fs::path> peer_script =
+        args.peer ? figura::bench::FindPeer("rings_peer.py") : std::nullopt;
 
     for (int rep = 0; rep < reps; ++rep) {
       auto t0 = Clock::now();
@@ -294,18 +201,14 @@ int main(int argc, char** argv) {
         continue;
       }
       const fs::path json = dir / "figura.json";
-      const ChildRun ours = Spawn(
-          {FIGURA_BINARY, "rings", image_path.string(), "--wavelength",
-           "mercury-e", "--pixel-pitch", "6.5um", "--json", json.string()},
-          dir / "figura.out", dir / "figura.err");
-      if (ours.exit_code != 0) {
-        std::printf("figura rings exit %d: %s\n", ours.exit_code,
-                    ReadAll(dir / "figura.err").c_str());
-        return 1;
-      }
-      command.push_back(ours.seconds);
-      peak.push_back(ours.peak_mb);
-      const auto ours_json = nlohmann::json::parse(ReadAll(json));
+      const auto ours = figura::bench::RunFigura(
+          {"rings", image_path.string(), "--wavelength", "mercury-e",
+           "--pixel-pitch", "6.5um", "--json", json.string()},
+          dir, json);
+      if (!ours) return 1;
+      command.push_back(ours->child.seconds);
+      peak.push_back(ours->child.peak_mb);
+      const nlohmann::json& ours_json = ours->result;
       our_r = ours_json["radius_of_curvature_mm"].get<double>();
       centre_error_px =
           std::hypot(ours_json["fringe_centre_px"][0].get<double>() -
@@ -313,33 +216,21 @@ int main(int argc, char** argv) {
                      ours_json["fringe_centre_px"][1].get<double>() -
                          truth["fringe_centre_px"][1].get<double>());
 
-      if (have_peer) {
-        // The peer runs with the distribution's numpy and OpenBLAS defaults:
-        // these two tuning variables must be unset together
-        // (../shared/libraries.md).
-        const ChildRun theirs =
-            Spawn({"/usr/bin/python3", peer_script.string(),
-                   image_path.string(), std::to_string(kWavelengthNm),
-                   std::to_string(kPixelPitchUm * 1e-3)},
-                  dir / "peer.out", dir / "peer.err",
-                  {"OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE"});
-        if (theirs.exit_code != 0) {
-          std::printf("peer exit %d: %s\n", theirs.exit_code,
-                      ReadAll(dir / "peer.err").c_str());
-        } else {
-          peer_s.push_back(theirs.seconds);
-          peer_r = nlohmann::json::parse(
-                       ReadAll(dir / "peer.out"))["radius_of_curvature_mm"]
-                       .get<double>();
+      std::optional<double> peer_rep_s;
+      if (peer_script) {
+        const auto theirs = figura::bench::RunPeer(
+            *peer_script,
+            {image_path.string(), std::to_string(kWavelengthNm),
+             std::to_string(kPixelPitchUm * 1e-3)},
+            dir);
+        if (theirs) {
+          peer_rep_s = theirs->child.seconds;
+          peer_s.push_back(*peer_rep_s);
+          peer_r = theirs->result["radius_of_curvature_mm"].get<double>();
         }
       }
-      std::printf(
-          "rep %d: decode %.3f s, analysis %.3f s, command %.3f s (%.0f MB)"
-          "%s\n",
-          rep + 1, decode.back(), analysis.back(), command.back(), peak.back(),
-          peer_s.empty()
-              ? ""
-              : (", peer " + std::to_string(peer_s.back()) + " s").c_str());
+      figura::bench::PrintRep(rep, decode.back(), analysis.back(), ours->child,
+                              peer_rep_s);
     }
 
     std::printf("\nminimum (median) over %d runs, seconds:\n", reps);
