@@ -450,13 +450,20 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
                              1e-13 * std::abs(part_radius);
     previous_radius = part_radius;
     if (same && settled && it >= 2) break;
-    if (it >= options.max_iterations && settled) {
+    // After max_iterations the inlier set is frozen (a rejection that
+    // cycles between two sets, e.g. points at the threshold, would
+    // otherwise keep the radius and so the exact-sag terms moving), and
+    // the loop only lets the exact-sag terms settle on that set.
+    const bool frozen = it >= options.max_iterations;
+    if (frozen && settled) {
       out.messages.push_back("outlier rejection did not settle in " +
                              std::to_string(options.max_iterations) +
                              " iterations");
       break;
     }
-    if (std::count(next.begin(), next.end(), true) >= n_par) inlier = next;
+    if (!frozen && std::count(next.begin(), next.end(), true) >= n_par) {
+      inlier = next;
+    }
     if (it == max_loops - 1) {
       out.messages.push_back("the exact-sag iteration did not converge");
     }
