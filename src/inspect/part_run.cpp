@@ -52,9 +52,8 @@ FormMeasurement MapFormMeasurement(const MapResult& result) {
   FormMeasurement m;
   if (result.status == Status::kError) return m;
   const FormMetrics& f = result.metrics;
-  constexpr double kCoverage = 2.0;  // GUM k = 2, about 95 %
   m.Set(FormCharacteristic::kPower,
-        {f.power_m * 1e9, kCoverage * f.power_u_m * 1e9});
+        {f.power_m * 1e9, kMapCoverageFactor * f.power_u_m * 1e9});
   m.Set(FormCharacteristic::kIrregularity, {f.irregularity_m * 1e9, kNan});
   m.Set(FormCharacteristic::kRsi, {f.rsi_m * 1e9, kNan});
   m.Set(FormCharacteristic::kRmsTotal, {f.rmst_m * 1e9, kNan});

@@ -56,7 +56,12 @@ struct FormMetrics {
   // contact, the part more convex than the reference), negative when it
   // shrinks (edge contact, the part more concave).
   double power_m = 0.0;
-  double power_u_m = 0.0;  // standard uncertainty of A: 2 sqrt3 u(c_4)
+  // Standard uncertainty of A: 2 sqrt3 u(c_4), u(c_4) from the fit
+  // covariance (for a map, corrected for correlated residuals:
+  // FitZernikeGrid). B, C, PV and the RMS forms have none: see
+  // docs/method.md (the fit covariance does not cover the carrier method's
+  // errors in the terms of radial order >= 5 that they depend on).
+  double power_u_m = 0.0;
   // Irregularity B: PV over the valid pixels of the map after removing
   // piston, tilt and the best sphere (c_4 Z_4).
   double irregularity_m = 0.0;
@@ -81,6 +86,11 @@ struct FormMetrics {
   double residual_rms_m = 0.0;
   long pixels = 0;  // valid pixels evaluated
 };
+
+// Coverage factor k of the expanded uncertainty U95 = k u of a map's power
+// (GUM, JCGM 100:2008, 6.3.3: k = 2, about 95 % for a normal distribution;
+// a map's effectively independent samples are many more than its terms).
+inline constexpr double kMapCoverageFactor = 2.0;
 
 // The form numbers of `height_m` (CV_32FC1 or CV_64FC1 metres, NaN where
 // invalid; pixels with rho <= 1 in `aperture_px` count) with `fit` from

@@ -498,12 +498,21 @@ nlohmann::json MapJson(const MapResult& r, const MapOptions& o,
   triple("rms", f.rms_m);
   triple("power", f.power_m);
   triple("power_u", f.power_u_m);
+  triple("power_u95", kMapCoverageFactor * f.power_u_m);
   triple("irregularity", f.irregularity_m);
   triple("rsi", f.rsi_m);
   triple("rmst", f.rmst_m);
   triple("rmsi", f.rmsi_m);
   triple("rmsa", f.rmsa_m);
+  j["coverage_factor"] = kMapCoverageFactor;
+  j["uncertainty_method"] =
+      "power: Zernike fit covariance for the effective number of independent "
+      "pixels (1/e area of the residual autocorrelation); PV, PVr, B, C and "
+      "the RMS forms: none (docs/method.md)";
   j["fit_residual_rms_nm"] = FiniteOrNull(r.fit.residual_rms_m * 1e9);
+  j["correlation_area_px"] = FiniteOrNull(r.fit.correlation_area_px);
+  j["covariance_inflation"] = FiniteOrNull(r.fit.covariance_inflation);
+  j["effective_samples"] = FiniteOrNull(r.fit.effective_samples);
   j["valid_pixels"] = f.pixels;
   j["unreliable_fraction"] = r.unreliable_fraction;
   j["fringe_unit_note"] =
@@ -543,8 +552,11 @@ std::string MapSummary(const MapResult& r, const MapOptions& o,
     line("PVr           ", f.pvr_m);
     line("RMS           ", f.rms_m);
     line("power A       ", f.power_m);
-    out << "    (u = " << Fixed(f.power_u_m * 1e9, 1) << " nm, "
-        << Fixed(MetresToFringes(f.power_u_m, lambda), 3) << " fringes)\n";
+    const double u95 = kMapCoverageFactor * f.power_u_m;
+    out << "    (U95 = " << Fixed(u95 * 1e9, 1) << " nm, "
+        << Fixed(MetresToFringes(u95, lambda), 3)
+        << " fringes, k = " << Fixed(kMapCoverageFactor, 0)
+        << "; u = " << Fixed(f.power_u_m * 1e9, 1) << " nm)\n";
     line("irregularity B", f.irregularity_m);
     line("rot. sym. C   ", f.rsi_m);
     line("RMSi          ", f.rmsi_m);

@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "surface/correlation_area.h"
 #include "surface/zernike.h"
 
 namespace figura {
@@ -64,6 +65,86 @@ ZernikeFitResult Failed(ZernikeFitResult result, const std::string& message) {
   return result;
 }
 
+// u_m = sqrt(diag(covariance_m2)).
+void SetStandardUncertainties(ZernikeFitResult* result) {
+  const auto p = result->covariance_m2.rows();
+  result->u_m.resize(static_cast<std::size_t>(p));
+  for (Eigen::Index i = 0; i < p; ++i) {
+    result->u_m[static_cast<std::size_t>(i)] =
+        std::sqrt(std::max(0.0, result->covariance_m2(i, i)));
+  }
+}
+
+// The residual map (height - fit) on a grid of step `step` px (x, y
+// multiples of it, as the fit's stride), NaN where there is no sample.
+cv::Mat ResidualGrid(const cv::Mat& height_m, const Circle& aperture_px,
+                     const std::vector<double>& coefficients_m, int step) {
+  const bool is_float = height_m.type() == CV_32FC1;
+  const int y_first = std::max(
+      0, static_cast<int>(
+             std::ceil((aperture_px.centre.y - aperture_px.radius) / step)));
+  const int y_last = std::min(
+      (height_m.rows - 1) / step,
+      static_cast<int>(
+          std::floor((aperture_px.centre.y + aperture_px.radius) / step)));
+  const int x_first = std::max(
+      0, static_cast<int>(
+             std::ceil((aperture_px.centre.x - aperture_px.radius) / step)));
+  const int x_last = std::min(
+      (height_m.cols - 1) / step,
+      static_cast<int>(
+          std::floor((aperture_px.centre.x + aperture_px.radius) / step)));
+  if (y_last < y_first || x_last < x_first) return {};
+  cv::Mat grid(y_last - y_first + 1, x_last - x_first + 1, CV_64FC1,
+               cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
+  const ZernikePolynomial surface(coefficients_m);
+  std::vector<double> row;
+  for (int gy = 0; gy < grid.rows; ++gy) {
+    const int y = (y_first + gy) * step;
+    const double sy = SurfacePoint(aperture_px, 0.0, y).y;
+    surface.RowCoefficients(sy, &row);
+    auto* out = grid.ptr<double>(gy);
+    for (int gx = 0; gx < grid.cols; ++gx) {
+      const int x = (x_first + gx) * step;
+      const double h = is_float ? static_cast<double>(height_m.at<float>(y, x))
+                                : height_m.at<double>(y, x);
+      if (!std::isfinite(h)) continue;
+      const double sx = SurfacePoint(aperture_px, x, 0.0).x;
+      if (sx * sx + sy * sy > 1.0) continue;
+      out[gx] = h - ZernikePolynomial::EvaluateRow(row, sx);
+    }
+  }
+  return grid;
+}
+
+// Scales the covariance of a grid fit for spatially correlated residuals
+// (FitZernikeGrid).
+void CorrectForCorrelation(const cv::Mat& height_m, const Circle& aperture_px,
+                           ZernikeFitResult* result) {
+  const int s = result->stride;
+  const int across = static_cast<int>(std::ceil(2.0 * aperture_px.radius / s));
+  const int q =
+      std::max(1, (across + kCorrelationGridCells - 1) / kCorrelationGridCells);
+  const int step = s * q;
+  const cv::Mat grid =
+      ResidualGrid(height_m, aperture_px, result->coefficients_m, step);
+  if (grid.empty()) return;
+  const CorrelationArea a = MeasureCorrelationArea(grid);
+  result->correlation_area_px = a.area_cells * step * step;
+  const double f =
+      std::max(1.0, result->correlation_area_px / (static_cast<double>(s) * s));
+  const auto n = static_cast<double>(result->samples);
+  const auto p = static_cast<double>(result->covariance_m2.rows());
+  const double n_eff = n / f;
+  // f, and sigma^2 on the effective degrees of freedom N_eff - P instead of
+  // N - P (the fit absorbs P of the N_eff independent samples' variance).
+  const double g = f * (n - p) * n_eff / (n * std::max(1.0, n_eff - p));
+  result->covariance_inflation = g;
+  result->effective_samples = n_eff;
+  result->covariance_m2 *= g;
+  SetStandardUncertainties(result);
+}
+
 }  // namespace
 
 std::string ZernikeFitOptions::Check() const {
@@ -116,7 +197,8 @@ ZernikeFitResult FitZernike(std::span<const SurfaceSample> samples,
   // Normal equations, accumulated in parallel over contiguous slices.
   const ZernikeBasis basis(p);
   const int slices = std::max(
-      1, std::min(cv::getNumThreads(), static_cast<int>(n / (4L * kBlockRows))));
+      1,
+      std::min(cv::getNumThreads(), static_cast<int>(n / (4L * kBlockRows))));
   Normal total(p);
   std::mutex merge;
   cv::parallel_for_(
@@ -181,11 +263,8 @@ ZernikeFitResult FitZernike(std::span<const SurfaceSample> samples,
   const double sigma2 = ss / static_cast<double>(n - p);
   result.residual_rms_m = std::sqrt(ss / sw);
   result.covariance_m2 = sigma2 * inverse;
-  result.u_m.resize(static_cast<std::size_t>(p));
-  for (int i = 0; i < p; ++i) {
-    result.u_m[static_cast<std::size_t>(i)] =
-        std::sqrt(std::max(0.0, result.covariance_m2(i, i)));
-  }
+  result.effective_samples = static_cast<double>(n);
+  SetStandardUncertainties(&result);
   return result;
 }
 
@@ -238,6 +317,9 @@ ZernikeFitResult FitZernikeGrid(const cv::Mat& height_m,
   });
   ZernikeFitResult result = FitZernike(samples, options);
   result.stride = stride;
+  if (result.status != Status::kError) {
+    CorrectForCorrelation(height_m, aperture_px, &result);
+  }
   if (stride > 1) {
     result.messages.push_back("Zernike fit on every " + std::to_string(stride) +
                               "th pixel in x and y (" +

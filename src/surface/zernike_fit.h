@@ -24,6 +24,11 @@ struct SurfaceSample {
   double weight = 1.0;    // relative weight (> 0), e.g. 1 / variance
 };
 
+// Most grid cells across the aperture diameter on which FitZernikeGrid
+// measures the residual correlation (a coarser multiple of the stride
+// above; keeps the autocorrelation FFT small).
+inline constexpr int kCorrelationGridCells = 512;
+
 // Settings of a Zernike fit.
 struct ZernikeFitOptions {
   // Highest radial order fitted: all ZernikeCount(max_order) polynomials
@@ -51,16 +56,25 @@ struct ZernikeFitResult {
   std::vector<double> coefficients_m;
   // Standard uncertainties sqrt(diag(covariance_m2)), metres.
   std::vector<double> u_m;
-  // Covariance of the coefficients, sigma^2 (A^T W A)^-1 with sigma^2 =
+  // Covariance of the coefficients, f sigma^2 (A^T W A)^-1 with sigma^2 =
   // sum w r^2 / (N - P) from the weighted residuals r (ordinary weighted
   // least squares; e.g. Bevington & Robinson, Data Reduction and Error
-  // Analysis, 3rd ed., ch. 7 [memory]). Pixel noise in a map is spatially
-  // correlated, so this is a lower bound for maps; exact for independent
-  // samples.
+  // Analysis, 3rd ed., ch. 7 [memory]) and f = covariance_inflation: 1 for
+  // FitZernike (independent samples); FitZernikeGrid sets it for the
+  // spatially correlated residuals of a map (see there).
   Eigen::MatrixXd covariance_m2;
   double residual_rms_m = 0.0;  // weighted RMS of the fit residuals, metres
   long samples = 0;             // samples used in the fit
   int stride = 1;               // FitZernikeGrid: subsampling stride (px)
+  // Factor applied to the independent-sample covariance (FitZernikeGrid;
+  // 1 when the residuals are uncorrelated at the sample spacing).
+  double covariance_inflation = 1.0;
+  // Effectively independent samples N_eff (FitZernike: the samples;
+  // FitZernikeGrid: samples / f, see there).
+  double effective_samples = 0.0;
+  // FitZernikeGrid: 1/e area of the residual autocorrelation (px^2,
+  // surface/correlation_area.h); 0 for FitZernike.
+  double correlation_area_px = 0.0;
 };
 
 // Weighted least-squares fit of Z_0 .. Z_{P-1}, P = ZernikeCount(max_order),
@@ -78,6 +92,15 @@ ZernikeFitResult FitZernike(std::span<const SurfaceSample> samples,
 // rho <= 1 in `aperture_px` are used, at most options.max_samples of them
 // (regular stride, see ZernikeFitOptions), all with weight 1. Pixel (px, py)
 // maps to surface coordinates by SurfacePoint (y flipped).
+// Map residuals are spatially correlated (the filtering of the fringe
+// analysis, unfitted smooth detail), so the covariance is that of N_eff =
+// N / f effectively independent samples (Bretherton et al., J. Climate 12,
+// 1990, 1999 [memory]): f = max(1, A / s^2) with A the 1/e correlation
+// area (px^2) of the residual map, measured on the sample grid (stride s;
+// coarsened so that at most kCorrelationGridCells cells span the aperture)
+// by MeasureCorrelationArea (surface/correlation_area.h), and sigma^2 taken
+// on N_eff - P degrees of freedom: covariance_inflation = f (N - P) N_eff /
+// (N (N_eff - P)) (N_eff - P at least 1). docs/method.md, section 13.1.
 ZernikeFitResult FitZernikeGrid(const cv::Mat& height_m,
                                 const Circle& aperture_px,
                                 const ZernikeFitOptions& options);

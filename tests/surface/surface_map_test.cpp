@@ -24,6 +24,7 @@
 #include <utility>
 #include <vector>
 
+#include "map_truth.h"
 #include "sim/gap.h"
 #include "sim/simulation.h"
 #include "surface/zernike.h"
@@ -33,18 +34,6 @@ namespace {
 
 constexpr double kHeD = 587.5618e-9;  // helium d line (references.md)
 constexpr double kHgE = 546.074e-9;   // mercury e line (references.md)
-
-Image ToImage(const SimulationResult& photo) {
-  Image image;
-  photo.image.convertTo(image.pixels, CV_32F);
-  image.info.width = photo.image.cols;
-  image.info.height = photo.image.rows;
-  image.info.bit_depth = 16;
-  image.info.channels = 1;
-  image.info.full_scale = 65535.0;
-  image.info.format = "tiff";
-  return image;
-}
 
 // Two flats with a wedge and shape terms through order 4 (invented window),
 // 16-bit camera with noise, blur, fall-off and gamma.
@@ -117,39 +106,9 @@ MapOptions OptionsFor(const SimulationOptions& sim) {
   return o;
 }
 
-// The truth over the map's evaluated aperture: gap map, its fit and form
-// numbers, piston and tilt removed.
-struct Truth {
-  cv::Mat height_m;
-  ZernikeFitResult fit;
-  FormMetrics metrics;
-};
-
-Truth TruthOver(const SimulationOptions& sim, const MapResult& r) {
-  const GapModel model(sim.gap, sim.aperture_diameter_m / 2.0);
-  const double p = sim.camera.pixel_pitch_m;
-  Truth t;
-  t.height_m = cv::Mat(r.height_m.size(), CV_32FC1,
-                       cv::Scalar(std::numeric_limits<double>::quiet_NaN()));
-  const Circle& c = r.aperture_px;
-  for (int y = 0; y < t.height_m.rows; ++y) {
-    for (int x = 0; x < t.height_m.cols; ++x) {
-      if (std::hypot(x - c.centre.x, y - c.centre.y) > c.radius) continue;
-      t.height_m.at<float>(y, x) = static_cast<float>(
-          model.At((x - sim.CentreX()) * p, (sim.CentreY() - y) * p));
-    }
-  }
-  ZernikeFitOptions fo;
-  fo.max_order = 8;
-  t.fit = FitZernikeGrid(t.height_m, c, fo);
-  std::vector<double> low(t.fit.coefficients_m.begin(),
-                          t.fit.coefficients_m.begin() + 3);
-  const cv::Mat valid = (t.height_m == t.height_m);
-  t.height_m -= EvaluateZernikeGrid(low, c, t.height_m.size(), valid);
-  for (int j = 0; j < 3; ++j) t.fit.coefficients_m[j] = 0.0;
-  t.metrics = ComputeFormMetrics(t.height_m, c, t.fit);
-  return t;
-}
+using testing::MapTruth;
+using testing::ToImage;
+using testing::TruthOver;
 
 // RMS of (map - truth) over pixels valid in both, about the mean.
 double MapRmsError(const cv::Mat& map, const cv::Mat& truth) {
@@ -183,7 +142,7 @@ TEST(SurfaceMap, CarrierPhotoMeetsTheAccuracyTargets) {
   const MapResult r = AnalyseMap(ToImage(photo), o);
   ASSERT_NE(r.status, Status::kError) << r.messages.front();
   EXPECT_EQ(r.mode, MapMode::kCarrier);
-  const Truth t = TruthOver(sim, r);
+  const MapTruth t = TruthOver(sim, r);
   for (int j = 3; j < ZernikeCount(4); ++j) {
     SCOPED_TRACE("j = " + std::to_string(j));
     EXPECT_NEAR(r.fit.coefficients_m[j] * 1e9, t.fit.coefficients_m[j] * 1e9,
@@ -213,7 +172,7 @@ TEST(SurfaceMap, CarrierSignFollowsTheThinSide) {
   o.thin_side_given = true;
   const MapResult r = AnalyseMap(ToImage(photo), o);
   ASSERT_NE(r.status, Status::kError) << r.messages.front();
-  const Truth t = TruthOver(sim, r);
+  const MapTruth t = TruthOver(sim, r);
   EXPECT_NEAR(r.fit.coefficients_m[4] * 1e9, t.fit.coefficients_m[4] * 1e9,
               2.0);
   EXPECT_NEAR(r.fit.coefficients_m[5] * 1e9, t.fit.coefficients_m[5] * 1e9,
@@ -237,7 +196,7 @@ TEST(SurfaceMap, ClosedFringeTestPlateMeetsTheTargets) {
     const MapResult r = AnalyseMap(ToImage(photo), o);
     ASSERT_NE(r.status, Status::kError) << r.messages.front();
     EXPECT_EQ(r.mode, MapMode::kClosed);
-    const Truth t = TruthOver(sim, r);
+    const MapTruth t = TruthOver(sim, r);
     const double a = Fringes(r.metrics.power_m, kHgE);
     const double b = Fringes(r.metrics.irregularity_m, kHgE);
     const double c = Fringes(r.metrics.rsi_m, kHgE);

@@ -14,6 +14,7 @@
 #include <filesystem>
 #include <fstream>
 #include <limits>
+#include <opencv2/imgproc.hpp>
 #include <random>
 #include <string>
 #include <vector>
@@ -194,6 +195,74 @@ TEST(ZernikeFit, UncertaintyCoverageOverSeeds) {
   EXPECT_NEAR(f2, 0.954, 0.02);
   // Residual RMS ~ sigma sqrt((N - P) / N).
   EXPECT_NEAR(sigma_ratio, std::sqrt((600.0 - 28.0) / 600.0), 0.02);
+}
+
+// A map whose noise is correlated over several pixels (white noise
+// smoothed by a Gaussian of a = 3 px; its autocorrelation is a Gaussian of
+// 1/e area 4 pi a^2 = 113 px^2 [textbook: white noise through a Gaussian
+// filter, memory]): the grid fit's u(c) must match the scatter of the
+// coefficients over repeated noise draws (Monte Carlo, fixed seed), where
+// the independent-pixel u is about sqrt(113) ~ 11 times too small.
+TEST(ZernikeFit, GridUncertaintyMatchesMonteCarloForCorrelatedNoise) {
+  constexpr int kSize = 200;
+  constexpr int kDraws = 60;
+  const Circle aperture{{99.5, 99.5}, 90.0};
+  const std::vector<double> truth = RandomCoefficients(4, 11);
+  const cv::Mat surface =
+      EvaluateZernikeGrid(truth, aperture, cv::Size(kSize, kSize));
+  cv::RNG rng(8080);
+  std::vector<double> sum(truth.size(), 0.0);
+  std::vector<double> sum2(truth.size(), 0.0);
+  std::vector<double> u2(truth.size(), 0.0);
+  double inflation = 0.0;
+  for (int d = 0; d < kDraws; ++d) {
+    cv::Mat noise(kSize, kSize, CV_32FC1);
+    rng.fill(noise, cv::RNG::NORMAL, 0.0, 1.0);
+    cv::GaussianBlur(noise, noise, cv::Size(0, 0), 3.0, 3.0,
+                     cv::BORDER_REFLECT);
+    const cv::Mat map = surface + noise * 10e-9;
+    const ZernikeFitResult fit =
+        FitZernikeGrid(map, aperture, {.max_order = 4});
+    ASSERT_EQ(fit.status, Status::kOk);
+    inflation += fit.covariance_inflation / kDraws;
+    for (std::size_t j = 0; j < truth.size(); ++j) {
+      const double e = fit.coefficients_m[j] - truth[j];
+      sum[j] += e;
+      sum2[j] += e * e;
+      u2[j] += fit.u_m[j] * fit.u_m[j] / kDraws;
+    }
+  }
+  // Piston is excluded: the mean of a field is set by its lowest
+  // frequencies, where a smoothed-noise draw of this size has few samples.
+  double log_ratio = 0.0;
+  for (std::size_t j = 1; j < truth.size(); ++j) {
+    const double mean = sum[j] / kDraws;
+    const double sd = std::sqrt(sum2[j] / kDraws - mean * mean);
+    const double ratio = std::sqrt(u2[j]) / sd;
+    std::printf("j %zu: u / Monte Carlo sd %.2f\n", j, ratio);
+    EXPECT_GT(ratio, 0.6) << j;
+    EXPECT_LT(ratio, 1.6) << j;
+    log_ratio += std::log(ratio) / static_cast<double>(truth.size() - 1);
+  }
+  std::printf("covariance inflation %.1f, geometric mean u / sd %.2f\n",
+              inflation, std::exp(log_ratio));
+  EXPECT_NEAR(std::exp(log_ratio), 1.0, 0.25);
+  EXPECT_GT(inflation, 50.0);
+}
+
+// White noise: the residuals are uncorrelated and the grid fit keeps the
+// independent-sample covariance (inflation near 1).
+TEST(ZernikeFit, GridWithWhiteNoiseIsNotInflated) {
+  const Circle aperture{{99.5, 99.5}, 90.0};
+  const cv::Mat surface = EvaluateZernikeGrid(RandomCoefficients(4, 12),
+                                              aperture, cv::Size(200, 200));
+  cv::Mat noise(200, 200, CV_32FC1);
+  cv::RNG(99).fill(noise, cv::RNG::NORMAL, 0.0, 5e-9);
+  const ZernikeFitResult fit =
+      FitZernikeGrid(surface + noise, aperture, {.max_order = 4});
+  ASSERT_EQ(fit.status, Status::kOk);
+  EXPECT_LT(fit.covariance_inflation, 1.2);
+  EXPECT_GT(fit.effective_samples, 0.8 * static_cast<double>(fit.samples));
 }
 
 // Weights: a sample with a huge weight is fitted (nearly) exactly.
