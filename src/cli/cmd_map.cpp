@@ -117,7 +117,7 @@ int Run(const std::vector<std::string>& args) {
     if (result.status == Status::kError) {
       std::cerr << "figura map: error: " << path << ": "
                 << (result.messages.empty() ? "analysis failed"
-                                            : result.messages.front())
+                                            : result.messages.back())
                 << "\n";
       exit_code = kExitInput;
       continue;

@@ -102,6 +102,13 @@ std::string SignText(const MapOptions& o, MapMode mode) {
          "; positive heights are a wider gap";
 }
 
+// Whether the carrier probe was refused for aliasing: an aliased peak that
+// holds enough of the fringe energy to be a carrier at all (the probe's
+// kProbeMinRatio, phase/carrier.cpp); below that the reason is "no carrier".
+bool AliasingIsTheReason(const CarrierProbe& probe) {
+  return probe.aliased && probe.peak_ratio >= 0.5;
+}
+
 // The carrier path: demodulate (with unwrapping), scale to gap, fit.
 void CarrierMap(const Image& image, const MapOptions& o, const cv::Mat& mask,
                 MapResult* r) {
@@ -111,9 +118,9 @@ void CarrierMap(const Image& image, const MapOptions& o, const cv::Mat& mask,
   r->fringe_count = c.fringe_count;
   if (c.status == Status::kError) {
     r->status = Status::kError;
-    if (c.aliased) {
-      r->messages.insert(
-          r->messages.begin(),
+    // The reason goes last (as in every result: the command prints it).
+    if (AliasingIsTheReason(c.probe)) {
+      r->messages.push_back(
           "aliased fringes: the carrier period is too short for "
           "the pixel grid (use a finer pixel pitch or less tilt)");
     }
@@ -378,21 +385,20 @@ MapResult AnalyseMap(const Image& image, const MapOptions& options) {
   } else {
     ClosedMap(image, options, mask, clear, &r);
     if (r.status == Status::kError && options.mode == MapMode::kAuto) {
-      // Neither method found fringes: say why the carrier was refused too.
+      // Neither method found fringes: say why the carrier was refused too,
+      // last (the reason the command prints).
       const std::string why =
           probe.reason.empty() ? std::string("none found") : probe.reason;
-      if (probe.aliased && probe.peak_ratio >= 0.5) {
-        r.messages.insert(r.messages.begin(),
-                          "aliased fringes: " + why +
-                              " (use a finer pixel pitch or less tilt)");
+      if (AliasingIsTheReason(probe)) {
+        r.messages.push_back("aliased fringes: " + why +
+                             " (use a finer pixel pitch or less tilt)");
       } else {
-        r.messages.insert(
-            r.messages.begin(),
-            "no fringes to map: no carrier (" + why +
-                ") and no closed fringes" +
-                (probe.aliased ? "; the strongest spectral peak lies near "
-                                 "the sampling limit (aliased fringes?)"
-                               : ""));
+        r.messages.push_back("no fringes to map: no carrier (" + why +
+                             ") and no closed fringes" +
+                             (probe.aliased
+                                  ? "; the strongest spectral peak lies near "
+                                    "the sampling limit (aliased fringes?)"
+                                  : ""));
       }
     }
   }

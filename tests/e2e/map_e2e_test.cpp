@@ -124,12 +124,46 @@ TEST(MapE2e, NoFringesIsExitTwoWithOneLine) {
                            "' --out '" + photo.string() + "'",
                        dir / "sim");
   ASSERT_EQ(run.exit_code, 0) << run.err;
-  run = RunFigura("map '" + photo.string() + "' --wavelength 546.07nm",
-                  dir / "map");
+  // The one error line is the reason: the last message of the result (as
+  // `figura rings` and `figura inspect` print), here the summary of why
+  // neither method found fringes.
+  const std::string prefix = "figura map: error: " + photo.string() + ": ";
+  run =
+      RunFigura("map '" + photo.string() + "' --wavelength 546.07nm --json '" +
+                    (dir / "auto.json").string() + "'",
+                dir / "map");
   EXPECT_EQ(run.exit_code, 2);
   EXPECT_EQ(figura::e2e::CountLines(run.err), 1) << run.err;
-  EXPECT_NE(run.err.find("uniform.tif"), std::string::npos) << run.err;
-  EXPECT_NE(run.err.find("no fringes"), std::string::npos) << run.err;
+  EXPECT_EQ(run.err.rfind(prefix + "no fringes to map: no carrier (", 0), 0U)
+      << run.err;
+  const auto messages = [&](const char* name) {
+    return nlohmann::json::parse(ReadFile(dir / name))["status"]["messages"];
+  };
+  ASSERT_FALSE(messages("auto.json").empty());
+  EXPECT_EQ(run.err,
+            prefix + messages("auto.json").back().get<std::string>() + "\n");
+  // Forced modes: the carrier is refused for want of a carrier (a uniform
+  // disc has no spectral peak: not aliasing); the closed fringes for want
+  // of a ring centre.
+  for (const char* mode : {"carrier", "closed"}) {
+    SCOPED_TRACE(mode);
+    const std::string json = std::string(mode) + ".json";
+    run =
+        RunFigura("map '" + photo.string() + "' --wavelength 546.07nm --mode " +
+                      mode + " --json '" + (dir / json).string() + "'",
+                  dir / mode);
+    EXPECT_EQ(run.exit_code, 2);
+    EXPECT_EQ(figura::e2e::CountLines(run.err), 1) << run.err;
+    const auto m = messages(json.c_str());
+    ASSERT_FALSE(m.empty());
+    EXPECT_EQ(run.err, prefix + m.back().get<std::string>() + "\n");
+    EXPECT_NE(run.err.find(std::string(mode) == "carrier"
+                               ? "carrier: no carrier"
+                               : "closed fringes: ring detection: no fringes"),
+              std::string::npos)
+        << run.err;
+    EXPECT_EQ(run.err.find("aliased fringes"), std::string::npos) << run.err;
+  }
 }
 
 // --aperture-diameter as pixels and as a length with --pixel-pitch fixes
