@@ -10,6 +10,7 @@
 #include <set>
 #include <system_error>
 #include <thread>
+#include <vector>
 
 #include "core/error.h"
 #include "core/sha256.h"
@@ -147,13 +148,19 @@ LotRow ProcessTask(const Task& task, const LotOptions& options) {
   return row;
 }
 
-// Writes summary.json, summary.csv and index.html.
+// Writes summary.csv, index.html and summary.json as one set: all are
+// rendered first, and a failure leaves the previous set (or none) in place.
+// summary.json goes last: resume relies on it.
 void WriteSummaryFiles(const fs::path& out_dir, const LotSummary& summary,
                        bool write_index) {
   const nlohmann::json j = LotSummaryJson(summary);
-  WriteFileAtomic(out_dir / kSummaryCsv, LotSummaryCsv(summary));
-  if (write_index) WriteLotIndex(out_dir / kIndexHtml, j);
-  WriteJson((out_dir / kSummaryJson).string(), j);
+  std::vector<FileContent> files;
+  files.push_back({out_dir / kSummaryCsv, LotSummaryCsv(summary)});
+  if (write_index) {
+    files.push_back({out_dir / kIndexHtml, RenderLotIndex(j, {}, out_dir)});
+  }
+  files.push_back({out_dir / kSummaryJson, JsonText(j)});
+  WriteFilesTogether(files);
 }
 
 void EnsureFolder(const fs::path& dir) {

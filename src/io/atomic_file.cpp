@@ -209,6 +209,42 @@ void WriteFileAtomic(const fs::path& path, std::string_view bytes,
   }
 }
 
+void WriteFilesTogether(const std::vector<FileContent>& files) {
+  std::vector<Target> targets;
+  targets.reserve(files.size());
+  for (const FileContent& f : files) {
+    targets.push_back(Inspect(f.path, Overwrite::kAllow));
+  }
+  std::vector<fs::path> temps(files.size());
+  try {
+    for (std::size_t i = 0; i < files.size(); ++i) {
+      if (targets[i].stream)
+        WriteStream(targets[i].path, files[i].bytes, files[i].path);
+    }
+    for (std::size_t i = 0; i < files.size(); ++i) {
+      if (targets[i].stream) continue;
+      const int fd = CreateTemp(targets[i], files[i].path, &temps[i]);
+      try {
+        WriteAll(fd, files[i].bytes, files[i].path);
+      } catch (...) {
+        ::close(fd);
+        throw;
+      }
+      SyncAndClose(fd, files[i].path);
+    }
+    for (std::size_t i = 0; i < files.size(); ++i) {
+      if (targets[i].stream) continue;
+      Commit(temps[i], targets[i], Overwrite::kAllow, files[i].path);
+      temps[i].clear();
+    }
+  } catch (...) {
+    for (const fs::path& temp : temps) {
+      if (!temp.empty()) RemoveQuietly(temp);
+    }
+    throw;
+  }
+}
+
 void WriteViaTemp(const fs::path& path,
                   const std::function<void(const fs::path&)>& write_temp,
                   Overwrite overwrite) {

@@ -13,7 +13,9 @@
 
 #include <filesystem>
 #include <functional>
+#include <string>
 #include <string_view>
+#include <vector>
 
 namespace figura {
 
@@ -37,5 +39,21 @@ void WriteViaTemp(
     const std::filesystem::path& path,
     const std::function<void(const std::filesystem::path&)>& write_temp,
     Overwrite overwrite = Overwrite::kAllow);
+
+// One file of a set written together by WriteFilesTogether.
+struct FileContent {
+  std::filesystem::path path;
+  std::string bytes;
+};
+
+// Writes a set of files so that a failure leaves every destination as it
+// was: each is checked and its bytes written to a temporary file (a device or
+// FIFO destination, which cannot be renamed over, is written in place first)
+// before any is renamed over its final name; then the temporaries are
+// renamed in the given order (put the file that marks the set complete
+// last). Throws OutputError "<path>: <reason>" naming the file that failed;
+// the temporaries are removed. Only a failed rename itself, after earlier
+// ones, leaves the set mixed.
+void WriteFilesTogether(const std::vector<FileContent>& files);
 
 }  // namespace figura

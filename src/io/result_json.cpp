@@ -39,12 +39,15 @@ std::string StringOr(const nlohmann::json& j, const char* key) {
                                           : std::string();
 }
 
+std::string JsonText(const nlohmann::json& value) {
+  // Invalid UTF-8 (e.g. from a file name) is replaced rather than thrown on.
+  return value.dump(2, ' ', false, nlohmann::json::error_handler_t::replace) +
+         "\n";
+}
+
 void WriteJson(const std::string& path, const nlohmann::json& value,
                Overwrite overwrite) {
-  // Invalid UTF-8 (e.g. from a file name) is replaced rather than thrown on.
-  const std::string text =
-      value.dump(2, ' ', false, nlohmann::json::error_handler_t::replace) +
-      "\n";
+  const std::string text = JsonText(value);
   if (path == "-") {
     std::cout.write(text.data(), static_cast<std::streamsize>(text.size()));
     std::cout.flush();

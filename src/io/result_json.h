@@ -41,7 +41,11 @@ nlohmann::json FiniteOrNull(double value);
 // may hold null, e.g. the hash of an unreadable input).
 std::string StringOr(const nlohmann::json& j, const char* key);
 
-// Writes `value` pretty-printed (2 spaces, trailing newline) to `path`
+// `value` pretty-printed as the result files hold it: 2 spaces, a trailing
+// newline, invalid UTF-8 (e.g. from a file name) replaced.
+std::string JsonText(const nlohmann::json& value);
+
+// Writes JsonText(value) to `path`
 // atomically, or to standard output when path is "-". Throws OutputError.
 void WriteJson(const std::string& path, const nlohmann::json& value,
                Overwrite overwrite = Overwrite::kAllow);

@@ -182,6 +182,45 @@ TEST_F(OutputSafetyE2e, ReadOnlyFolderGivesOneLineAndLeavesItEmpty) {
   fs::permissions(ro, fs::perms::owner_all);
 }
 
+// The lot's summary.csv, index.html and summary.json are one set: when
+// index.html cannot be written (a symbolic link to /dev/full, which is
+// written in place and fails with ENOSPC), neither summary file is written
+// either, on a first run (none) or on a rerun with --force (the previous
+// set stays as it was). One line naming the file, exit 2, no temporaries.
+TEST_F(OutputSafetyE2e, LotSummaryFilesAreWrittenTogether) {
+  const fs::path out = Root() / "lot-set";
+  fs::remove_all(out);
+  fs::create_directories(out);
+  fs::create_symlink("/dev/full", out / "index.html");
+  const std::string args = "inspect --job " + Quote(Root() / "job.ini") +
+                           " --out " + Quote(out) + " --progress quiet " +
+                           Quote(Photo());
+  CommandOutcome run =
+      RunFiguraBounded(args, Root() / "cap-lot-set", RunBounds{});
+  ExpectFullDeviceError(run, (out / "index.html").string());
+  EXPECT_FALSE(fs::exists(out / "summary.csv"));
+  EXPECT_FALSE(fs::exists(out / "summary.json"));
+  EXPECT_TRUE(LeftoverTemps(out).empty());
+
+  // A complete set, then a rerun that cannot write index.html.
+  fs::remove(out / "index.html");
+  run =
+      RunFiguraBounded(args + " --force", Root() / "cap-lot-set2", RunBounds{});
+  ASSERT_NE(run.exit_code, 2) << run.err;
+  const std::string csv = ReadFile(out / "summary.csv");
+  const std::string json = ReadFile(out / "summary.json");
+  ASSERT_FALSE(csv.empty());
+  ASSERT_FALSE(json.empty());
+  fs::remove(out / "index.html");
+  fs::create_symlink("/dev/full", out / "index.html");
+  run =
+      RunFiguraBounded(args + " --force", Root() / "cap-lot-set3", RunBounds{});
+  ExpectFullDeviceError(run, (out / "index.html").string());
+  EXPECT_EQ(ReadFile(out / "summary.csv"), csv);
+  EXPECT_EQ(ReadFile(out / "summary.json"), json);
+  EXPECT_TRUE(LeftoverTemps(out).empty());
+}
+
 // Starts `figura ARGS...` with output to files; returns the child's pid.
 pid_t Spawn(const std::vector<std::string>& args, const fs::path& out,
             const fs::path& err) {

@@ -129,6 +129,41 @@ TEST(AtomicFile, ViaTempCleansUpOnFailure) {
 }
 
 // Writing through a symbolic link replaces the file it points to.
+// A set of files: all replaced, or (when one destination cannot be
+// written: a folder in its place, or /dev/full behind a link) none touched.
+TEST(AtomicFile, FilesTogetherAllOrNone) {
+  const fs::path dir = io_test::ScratchDir("atomic_together");
+  const fs::path a = dir / "a.csv";
+  const fs::path b = dir / "b.html";
+  const fs::path c = dir / "c.json";
+  WriteFilesTogether({{a, "a1"}, {b, "b1"}, {c, "c1"}});
+  EXPECT_EQ(io_test::ReadBytes(a), "a1");
+  EXPECT_EQ(io_test::ReadBytes(b), "b1");
+  EXPECT_EQ(io_test::ReadBytes(c), "c1");
+
+  fs::remove(b);
+  fs::create_directory(b);
+  std::string what = OutputErrorOf([&] {
+    WriteFilesTogether({{a, "a2"}, {b, "b2"}, {c, "c2"}});
+  });
+  EXPECT_EQ(what, b.string() + ": is a directory");
+  EXPECT_EQ(io_test::ReadBytes(a), "a1");
+  EXPECT_EQ(io_test::ReadBytes(c), "c1");
+  EXPECT_TRUE(io_test::TempFiles(dir).empty());
+
+  if (!fs::exists("/dev/full")) GTEST_SKIP() << "no /dev/full";
+  fs::remove(b);
+  fs::create_symlink("/dev/full", b);
+  what = OutputErrorOf([&] {
+    WriteFilesTogether({{a, "a3"}, {b, "b3"}, {c, "c3"}});
+  });
+  EXPECT_NE(what.find(b.string()), std::string::npos) << what;
+  EXPECT_NE(what.find("No space left on device"), std::string::npos) << what;
+  EXPECT_EQ(io_test::ReadBytes(a), "a1");
+  EXPECT_EQ(io_test::ReadBytes(c), "c1");
+  EXPECT_TRUE(io_test::TempFiles(dir).empty());
+}
+
 TEST(AtomicFile, SymlinkTargetReplaced) {
   const fs::path dir = io_test::ScratchDir("atomic_symlink");
   io_test::WriteBytes(dir / "target.txt", "old");
