@@ -134,6 +134,7 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
   }
   RingFitOptions fit_options = options.fit;
   fit_options.detected_points = true;
+  fit_options.detection_blur_bias_rel = out.detection.blur_bias_rel;
   if (!fit_options.aperture_diameter) {
     fit_options.aperture_diameter =
         Length::Metres(2.0 * out.detection.aperture_radius_px *
@@ -165,6 +166,18 @@ RingsResult AnalyseRings(const Image& image, const RingsOptions& options) {
         "large fit residuals (" + Fixed(out.fit.residual_rms_fringes, 3) +
         " fringe rms): the surface departs from a sphere or fringes were "
         "misplaced; see the surface map");
+  }
+  // Blur (or a broad-band source) that lowers the contrast towards the
+  // edge enough to bias R noticeably: its bias is in U95; say why.
+  if (out.detection.blur_bias_rel > kBlurWarningRel) {
+    out.status = Worse(out.status, Status::kWarning);
+    out.messages.push_back(
+        "the fringe contrast falls towards the edge as a blur of about " +
+        Num(out.detection.blur_sigma_px, 2) +
+        " px would make it (or a broad-band source); such blur makes R read "
+        "high, here by about " +
+        Num(100.0 * out.detection.blur_bias_rel, 2) +
+        " %, and U95 allows for twice that; focus the camera on the fringes");
   }
   // The centre state seen in the photo against the one the fit predicts
   // from the fractional order at the centre (ambiguous near a quarter).

@@ -301,6 +301,68 @@ Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
   return out;
 }
 
+// Blur from the fall of the fringe visibility a / m with r^2 (see
+// RingDetectionResult::blur_sigma_px): a least-squares line of ln(a / m)
+// against r^2 about `centre` over the reduced envelope cells wholly inside
+// the region (envelopes smoothed with a Gaussian of `smoothing_px`). Leaves the
+// result's fields as they are when fewer than 20 cells or less than two periods
+// of r^2 are available.
+void EstimateBlur(const FlattenedImage& flat, double smoothing_px,
+                  cv::Point2d centre, double period_r2_px2,
+                  RingDetectionResult& result) {
+  // Cells: r^2 and ln(a / m).
+  std::vector<std::pair<double, double>> cells;
+  const double scale = flat.scale;
+  for (int j = 0; j < flat.mean.rows; ++j) {
+    const auto* w = flat.weight.ptr<float>(j);
+    const auto* m = flat.mean.ptr<float>(j);
+    const auto* a = flat.amplitude.ptr<float>(j);
+    const double dy = (j + 0.5) * scale - 0.5 - centre.y;
+    for (int i = 0; i < flat.mean.cols; ++i) {
+      if (w[i] < 0.99F || !(m[i] > 0.0F) || !(a[i] > 0.0F)) continue;
+      const double dx = (i + 0.5) * scale - 0.5 - centre.x;
+      const double y = std::log(static_cast<double>(a[i] / m[i]));
+      if (std::isfinite(y)) cells.emplace_back(dx * dx + dy * dy, y);
+    }
+  }
+  if (cells.empty()) return;
+  double r2_max = 0.0;
+  for (const auto& cell : cells) r2_max = std::max(r2_max, cell.first);
+  // The inner half in r^2 only: where strong blur has brought the fringe
+  // amplitude down to the noise, a = sqrt(2 var) measures the noise and
+  // the line would flatten.
+  double n = 0.0;
+  double sx = 0.0;
+  double sy = 0.0;
+  double sxx = 0.0;
+  double sxy = 0.0;
+  double x_min = std::numeric_limits<double>::infinity();
+  double x_max = -x_min;
+  for (const auto& [x, y] : cells) {
+    if (x > 0.5 * r2_max) continue;
+    n += 1.0;
+    sx += x;
+    sy += y;
+    sxx += x * x;
+    sxy += x * y;
+    x_min = std::min(x_min, x);
+    x_max = std::max(x_max, x);
+  }
+  if (n < 20.0 || !(x_max - x_min >= 2.0 * period_r2_px2)) return;
+  const double denominator = n * sxx - sx * sx;
+  if (!(denominator > 0.0)) return;
+  // The envelopes are Gaussian-smoothed (standard deviation s): a variance
+  // falling as exp(-2 k r^2) comes out falling as exp(-2 k r^2 / (1 + 4 k
+  // s^2)) (product of Gaussians), so the line's k' = k / (1 + 4 k s^2)
+  // gives k = k' / (1 - 4 k' s^2), the divisor kept >= 1/4.
+  const double k_seen = std::max(0.0, -(n * sxy - sx * sy) / denominator);
+  const double k =
+      k_seen / std::max(0.25, 1.0 - 4.0 * k_seen * smoothing_px * smoothing_px);
+  const double c = kTwoPi / period_r2_px2;
+  result.blur_sigma_px = std::sqrt(k / (2.0 * c * c));
+  result.blur_bias_rel = k * k / (c * c);
+}
+
 // Records the wall and processor time since the previous lap as one named
 // stage.
 class StageClock {
@@ -614,6 +676,8 @@ RingDetectionResult DetectRings(const cv::Mat& input,
                                ? FringeState::kDark
                                : FringeState::kBright;
   result.fringes_in_aperture = analysis.fringes;
+  EstimateBlur(flat, illumination.smoothing_px, centre, analysis.period,
+               result);
   result.points = std::move(analysis.points);
   if (analysis.rejected > 0) {
     result.messages.push_back(

@@ -5,6 +5,7 @@
 // radius of curvature, uncertainty) lives in ring_fit.h.
 #pragma once
 
+#include <limits>
 #include <opencv2/core.hpp>
 #include <optional>
 #include <string>
@@ -86,6 +87,20 @@ struct RingDetectionResult {
   double fringes_in_aperture = 0.0;
   // Fraction of the evaluated aperture's pixels at full scale.
   double saturated_fraction = 0.0;
+  // Blur read from the fringe contrast: under a Gaussian PSF of standard
+  // deviation sigma the chirp cos(c r^2), c = 2 pi / P, keeps the
+  // visibility exp(-k r^2) with k = 2 c^2 sigma^2 and reads its period in
+  // r^2 (1 + 4 c^2 sigma^4) = (1 + k^2 / c^2) times too long (convolution
+  // of a Gaussian with a quadratic phase; e.g. Goodman, Introduction to
+  // Fourier Optics, ch. 4 [from memory]). k comes from a least-squares
+  // line of ln(a / m) against r^2 over the flattening's envelopes (local
+  // amplitude a over local mean m: illumination fall-off cancels).
+  // blur_sigma_px = sqrt(k / (2 c^2)) (NaN when not estimated; 0 when the
+  // contrast does not fall) and blur_bias_rel = k^2 / c^2, the fraction by
+  // which that blur makes R read high. A broad-band source also lowers the
+  // contrast with r^2 (without that bias): both read as blur here.
+  double blur_sigma_px = std::numeric_limits<double>::quiet_NaN();
+  double blur_bias_rel = 0.0;
   // Time spent in each detection stage, in order, for speed measurements
   // (tests/benchmarks/bench_rings.cpp).
   std::vector<StageTime> stage_times;

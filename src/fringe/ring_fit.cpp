@@ -601,10 +601,11 @@ RingFitResult FitRings(const std::vector<RingFitPoint>& points,
   if (has_u && options.detected_points) {
     const double period_px2 = scale * scale / std::abs(a_mean);
     const double fringes = r_max_px * r_max_px / period_px2;
-    u_rel_det =
-        std::hypot(kDetectionFewFringes / (fringes * fringes * fringes) +
-                       kDetectionShortPeriod / (period_px2 * period_px2),
-                   kDetectionFloor);
+    u_rel_det = std::hypot(
+        kDetectionFewFringes / (fringes * fringes * fringes) +
+            std::max(kDetectionShortPeriod / (period_px2 * period_px2),
+                     options.detection_blur_bias_rel),
+        kDetectionFloor);
     method += "; ring-detection systematic (Type B, simulation study)";
   }
   const double u_rel_fit_only = u_rel_fit;

@@ -87,6 +87,11 @@ struct RingFitOptions {
   // about twice the real scatter), and (2) a Type B ring-detection
   // systematic term u_rel_detection (see RingFitResult) enters the budget.
   bool detected_points = false;
+  // With detected_points: the relative bias of R that the blur read from
+  // the photo implies (RingDetectionResult::blur_bias_rel; set by
+  // AnalyseRings, not a user setting). It replaces the calibrated
+  // short-period term of u_rel_detection when larger.
+  double detection_blur_bias_rel = 0.0;
 
   // An empty string when usable, otherwise a readable reason.
   [[nodiscard]] std::string Check() const;
@@ -135,10 +140,14 @@ struct RingFitResult {
   // changes the phase curvature of a quadratic-phase signal by
   // 1/(1 + 4 c^2 sigma^4), c = 2 pi / P; Gaussian-beam algebra, e.g.
   // Goodman, Introduction to Fourier Optics, ch. 4). Modelled as
-  //   kDetectionFewFringes / N^3 + kDetectionShortPeriod / P^2,
+  //   hypot(kDetectionFewFringes / N^3 +
+  //             max(kDetectionShortPeriod / P^2, detection_blur_bias_rel),
+  //         kDetectionFloor),
   // N fringes over the evaluated aperture, P the period in r^2 (px^2);
   // constants from a simulation study (tests/fringe/ring_accuracy_test.cpp,
-  // tuning seeds only).
+  // tuning seeds only; the floor from pixel-rich photos, see
+  // kDetectionFloor); the blur term from the photo itself (see
+  // RingFitOptions::detection_blur_bias_rel).
   double u_rel_detection = 0.0;
 
   // Radius of the gap's paraxial curvature (1/R_gap = 1/R + 1/R_plate).

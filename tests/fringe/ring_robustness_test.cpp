@@ -256,31 +256,29 @@ cv::Mat Pillbox(double a) {
   return k / cv::sum(k)[0];
 }
 
-// Blur the analysis' Type B detection term does not cover. That term
-// (ring_fit.h, kDetectionShortPeriod / P^2) was calibrated on simulated
-// Gaussian blur of sigma 0.3-1.2 px; a wider PSF biases R upwards: for a
-// Gaussian, blur scales the phase curvature of the chirp cos(c r^2) by
-// 1/(1 + 4 c^2 sigma^4), c = pi / P (Gaussian-beam algebra, Goodman,
-// Introduction to Fourier Optics, ch. 4), i.e. R reads (1 + 4 c^2
-// sigma^4) too large, with no trace in the residuals (a pure scale of r^2);
-// the measured biases are 2.5-4x that first-order value. Measured here
-// (base scene, P = 2730 px^2): pillbox 3 px +0.011 % with U95 0.0045 %;
-// motion 5 px +0.0054 % with U95 0.0046 %; extra Gaussian sigma 2 px
-// +0.047 % with U95 0.0046 %. Not fixed: it needs a blur estimate from the
-// fringe visibility against radius, which the detection does not measure.
-// So these cases demand the accuracy (R within 0.2 %, centre within
-// 0.5 px) and, when U95 does not cover the error, are reported as skipped
-// with the numbers (a known limitation, docs/validation.md).
+// Blur wider than the calibration of the analysis' Type B detection term
+// (ring_fit.h, kDetectionShortPeriod / P^2: simulated Gaussian blur of sigma
+// 0.3-1.2 px) biases R upwards: a Gaussian PSF scales the phase curvature of
+// the chirp cos(c r^2), c = 2 pi / P, by 1/(1 + 4 c^2 sigma^4) (Gaussian
+// convolution of a quadratic phase; Goodman, Introduction to Fourier Optics,
+// ch. 4 [from memory]), so R reads (1 + 4 c^2 sigma^4) too large, with no
+// trace in the residuals (a pure scale of r^2). For the extra sigma = 2 px
+// here (total sigma^2 = 0.8^2 + 2^2 + 1/12 for the pixel, P = 2730 px^2)
+// that is +0.047 %, as measured. The detection reads the blur from the fall
+// of the fringe visibility with r^2 (RingDetectionResult::blur_bias_rel) and
+// U95 allows for twice the bias it implies: before that, these cases had
+// U95 0.0045 % against errors up to 0.045 %. Demanded: the accuracy
+// (R within 0.2 %, centre within 0.5 px) and U95 covering the error; a
+// case U95 does not cover is reported as skipped with its numbers (a known
+// limitation, docs/validation.md), so that a regression shows in the log.
 void ExpectAccurateOrKnownBlurLimit(const Outcome& o) {
   ASSERT_NE(o.result.status, Status::kError) << Joined(o.result);
   EXPECT_LT(std::abs(o.rel_error), 2e-3);
   EXPECT_LT(o.centre_error, 0.5);
   EXPECT_TRUE(std::isfinite(o.u95) && o.u95 > 0.0);
   if (std::abs(o.rel_error) > o.u95) {
-    GTEST_SKIP() << "known limitation: blur wider than the detection term's "
-                    "calibration biases R by "
-                 << 100.0 * o.rel_error << " %, U95 " << 100.0 * o.u95
-                 << " % does not cover it";
+    GTEST_SKIP() << "known limitation: blur biases R by " << 100.0 * o.rel_error
+                 << " %, U95 " << 100.0 * o.u95 << " % does not cover it";
   }
   ExpectNoConfidentWrongRadius(o);
 }
@@ -319,9 +317,18 @@ TEST(RingRobustness, GaussianBlurBeyondCalibration) {
   const Scene s = Render(BaseScene());
   cv::Mat blurred;
   cv::GaussianBlur(s.level, blurred, {0, 0}, 2.0, 2.0, cv::BORDER_REFLECT);
-  ExpectAccurateOrKnownBlurLimit(Analyse("gaussian_blur_extra_2px",
-                                         Digitise(blurred, {}, Seed(17)), s,
-                                         OptionsFor(s.sim)));
+  const Outcome o =
+      Analyse("gaussian_blur_extra_2px", Digitise(blurred, {}, Seed(17)), s,
+              OptionsFor(s.sim));
+  // The bias (+0.047 %, above) exceeds the 0.01 % warning limit
+  // (ring_analysis.h kBlurWarningRel): the user is told to focus, and the
+  // blur read from the contrast is of the right size (total sigma 2.17 px;
+  // the estimate from the smoothed envelopes within 30 % [practice]).
+  EXPECT_EQ(o.result.status, Status::kWarning) << Joined(o.result);
+  EXPECT_NE(Joined(o.result).find("focus the camera"), std::string::npos)
+      << Joined(o.result);
+  EXPECT_NEAR(o.result.detection.blur_sigma_px, 2.17, 0.3 * 2.17);
+  ExpectAccurateOrKnownBlurLimit(o);
 }
 
 // Motion blur: a 5 px line PSF at 30 deg, centred (symmetric), so again no
