@@ -324,6 +324,7 @@ nlohmann::json RingsJson(const RingsResult& r, const RingsOptions& options,
         f.has_uncertainty ? FiniteOrNull(f.astigmatism_u_fringes) : nullptr;
     j["astigmatism_axis_deg"] = FiniteOrNull(f.astigmatism_axis_deg);
     j["visibility"] = FiniteOrNull(r.detection.visibility);
+    j["blur_sigma_px"] = FiniteOrNull(r.detection.blur_sigma_px);
     j["residual_rms_px"] = FiniteOrNull(f.residual_rms_px);
     j["sectors_used"] = f.sectors_used;
     j["chi2_reduced"] = FiniteOrNull(f.chi2_reduced);
