@@ -43,13 +43,19 @@ double MapTerm(const nlohmann::json& r, int j) {
   return std::nan("");
 }
 
+// Renders the demo window (images_demo/flat-w01.ini) to dir/w01.tif with
+// its truth file dir/w01.truth.json: the outcome of `figura simulate`.
+figura::e2e::CommandOutcome SimulateDemoWindow(const fs::path& dir) {
+  const fs::path gap = fs::path(FIGURA_SOURCE_DIR) / "images_demo/flat-w01.ini";
+  return RunFigura("simulate --gap '" + gap.string() + "' --out '" +
+                       (dir / "w01.tif").string() + "'",
+                   dir / "sim");
+}
+
 TEST(MapE2e, DemoWindowCarrierMap) {
   const fs::path dir = TempDir("map_e2e_window");
-  const fs::path gap = fs::path(FIGURA_SOURCE_DIR) / "images_demo/flat-w01.ini";
   const fs::path photo = dir / "w01.tif";
-  auto run = RunFigura(
-      "simulate --gap '" + gap.string() + "' --out '" + photo.string() + "'",
-      dir / "sim");
+  auto run = SimulateDemoWindow(dir);
   ASSERT_EQ(run.exit_code, 0) << run.err;
   // The wedge (tilt-x > 0) opens to the right: the thin side is the left.
   run = RunFigura("map '" + photo.string() +
@@ -172,11 +178,8 @@ TEST(MapE2e, NoFringesIsExitTwoWithOneLine) {
 // --aperture-fraction (0.95) of it (docs/cli.md).
 TEST(MapE2e, ApertureDiameterInPixelsOrAsALength) {
   const fs::path dir = TempDir("map_e2e_aperture");
-  const fs::path gap = fs::path(FIGURA_SOURCE_DIR) / "images_demo/flat-w01.ini";
   const fs::path photo = dir / "w01.tif";
-  auto run = RunFigura(
-      "simulate --gap '" + gap.string() + "' --out '" + photo.string() + "'",
-      dir / "sim");
+  auto run = SimulateDemoWindow(dir);
   ASSERT_EQ(run.exit_code, 0) << run.err;
   const auto truth = nlohmann::json::parse(ReadFile(dir / "w01.truth.json"));
   const auto& aperture = truth["settings"]["aperture"];
