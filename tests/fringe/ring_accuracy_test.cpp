@@ -27,6 +27,7 @@
 
 #include "check_record.h"
 #include "fringe/ring_analysis.h"
+#include "fringe/sim_rings_options.h"
 #include "sim/simulation.h"
 
 namespace figura {
@@ -65,17 +66,9 @@ SimulationOptions BaseScene() {
   return sim;
 }
 
-// The analysis settings that match a simulation (the user types the
-// wavelength, pixel pitch, media and view of the photo).
+// The settings a user types for the photo (wavelength, pitch, media, view).
 RingsOptions OptionsFor(const SimulationOptions& sim) {
-  RingsOptions options;
-  options.fit.wavelength =
-      Wavelength{Length::Metres(kHgE), Length::Metres(0.0), {}, {}, {}};
-  options.fit.pixel_pitch = Length::Metres(sim.camera.pixel_pitch_m);
-  options.fit.pixel_pitch_u = Length::Metres(0.0);
-  options.fit.stack = sim.stack;
-  options.fit.view = sim.view;
-  return options;
+  return test::RingsOptionsFor(sim, kHgE);
 }
 
 Image ToImage(const SimulationResult& photo, const SimulationOptions& sim,

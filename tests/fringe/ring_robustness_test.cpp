@@ -31,6 +31,7 @@
 #include <vector>
 
 #include "fringe/ring_analysis.h"
+#include "fringe/sim_rings_options.h"
 #include "io/image.h"
 #include "scratch_dir.h"
 #include "sim/simulation.h"
@@ -73,14 +74,7 @@ SimulationOptions BaseScene() {
 
 // The settings a user types for the photo (wavelength, pitch, media, view).
 RingsOptions OptionsFor(const SimulationOptions& sim) {
-  RingsOptions options;
-  options.fit.wavelength =
-      Wavelength{Length::Metres(kHgE), Length::Metres(0.0), {}, {}, {}};
-  options.fit.pixel_pitch = Length::Metres(sim.camera.pixel_pitch_m);
-  options.fit.pixel_pitch_u = Length::Metres(0.0);
-  options.fit.stack = sim.stack;
-  options.fit.view = sim.view;
-  return options;
+  return test::RingsOptionsFor(sim, kHgE);
 }
 
 // A rendered linear photo (levels, full scale = 1) and its truth.
