@@ -18,7 +18,23 @@ __attribute__((format(printf, 2, 0))) std::string Format(const char* module,
   std::string text = buf.data();
   if (module != nullptr && *module != '\0')
     text = std::string(module) + ": " + text;
-  return text;
+  // libtiff breaks some messages over lines ("...:\n  Value 32 of ...") and
+  // quotes strings from the file: every run of control characters and the
+  // blanks around it becomes one space, so that errors stay one line.
+  std::string line;
+  line.reserve(text.size());
+  bool gap = false;
+  for (const char c : text) {
+    const auto u = static_cast<unsigned char>(c);
+    if (u < 0x20 || u == 0x7f || c == ' ') {
+      gap = true;
+      continue;
+    }
+    if (gap && !line.empty()) line.push_back(' ');
+    gap = false;
+    line.push_back(c);
+  }
+  return line;
 }
 
 __attribute__((format(printf, 4, 0))) int OnError(TIFF* /*tif*/,

@@ -385,5 +385,29 @@ TEST(TiffDecoder, HugeHeaderRefusedFast) {
   EXPECT_THROW(LoadImage(path, lax), InputError);
 }
 
+// A fuzzed TIFF (tests/fuzz/corpus/image_decode_fuzz, found by
+// image_decode_fuzz) whose NumberOfInks tag disagrees with SamplesPerPixel:
+// libtiff's warning text breaks over two lines ("...NumberOfInks:\n  Value
+// 32 ..."). The refusal must still be one line naming the file (the
+// project's bad-input rule).
+TEST(TiffDecoder, LibtiffMessagesStayOneLine) {
+  const std::string bytes = io_test::ReadBytes(
+      fs::path(FIGURA_SOURCE_DIR) /
+      "tests/fuzz/corpus/image_decode_fuzz/tiff-inks-warning-two-lines.tif");
+  ASSERT_FALSE(bytes.empty());
+  LoadOptions options;
+  options.max_pixels = std::int64_t{1} << 22;
+  try {
+    DecodeImage("inks.tif", bytes, options);
+    FAIL() << "expected a refusal";
+  } catch (const InputError& e) {
+    const std::string message = e.what();
+    EXPECT_EQ(message.rfind("inks.tif: ", 0), 0U) << message;
+    EXPECT_EQ(message.find('\n'), std::string::npos) << message;
+    EXPECT_NE(message.find("NumberOfInks: Value 32"), std::string::npos)
+        << message;
+  }
+}
+
 }  // namespace
 }  // namespace figura
