@@ -153,16 +153,15 @@ std::vector<NumberedPoint> Numbered(const std::vector<FringePoint>& points) {
 }
 
 // Sector profiles, mean-profile numbering and sector points about `centre`
-// from every `row_step`-th row of the normalised image (`flat`, of size
-// `size`).
+// from every pixel of the normalised image (`flat`, of size `size`) in
+// `region`.
 Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
                       const Circle& region, cv::Point2d centre, double period,
-                      int sector_count, int row_step) {
+                      int sector_count) {
   Analysis out;
   // 7. Sector profiles about the refined centre.
-  const SectorProfiles sectors =
-      AccumulateSectorProfiles(flat, size, region, centre,
-                               period / kBinsPerPeriod, sector_count, row_step);
+  const SectorProfiles sectors = AccumulateSectorProfiles(
+      flat, size, region, centre, period / kBinsPerPeriod, sector_count);
   const R2Profile mean = ExtractProfile(sectors, -1);
   if (mean.r2.size() < 2 * static_cast<std::size_t>(kBinsPerPeriod)) {
     return Failed(
@@ -207,9 +206,8 @@ Analysis AnalyseAbout(const RowValues& flat, cv::Size size,
 
   // 9. Fringe centres in every sector, tracked outward.
   const double sector_width = kTwoPi / sector_count;
-  // Pixels expected in a half-period window of one sector (of the rows
-  // used).
-  const double expected_window_pixels = 0.5 * sector_width * period / row_step;
+  // Pixels expected in a half-period window of one sector.
+  const double expected_window_pixels = 0.5 * sector_width * period;
   // Sectors are independent: located in parallel, each into its own slot,
   // then joined in sector order (the result does not depend on threads).
   std::vector<std::vector<FringePoint>> sector_points(
@@ -647,7 +645,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
   // centre lies farther than kRecentrePx from the sharpest one, the
   // profiles are taken once more about it.
   Analysis analysis = AnalyseAbout(normalised, image.size(), region, centre,
-                                   period, options.sectors, 1);
+                                   period, options.sectors);
   clock.Lap("sectors about the sharpest centre");
   if (!analysis.error.empty()) return fail(analysis.error);
   ConcentricFit circles =
@@ -660,7 +658,7 @@ RingDetectionResult DetectRings(const cv::Mat& input,
     } else {
       Analysis second =
           AnalyseAbout(normalised, image.size(), region, circles.centre,
-                       analysis.period, options.sectors, 1);
+                       analysis.period, options.sectors);
       if (second.error.empty()) {
         centre = circles.centre;
         analysis = std::move(second);
