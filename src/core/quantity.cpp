@@ -94,6 +94,16 @@ double ParseNumber(std::string_view text, std::string_view what) {
   return value;
 }
 
+int ParseWholeNumber(std::string_view text, std::string_view what) {
+  const double v = ParseNumber(text, what);
+  // Range first: converting a double beyond int is undefined behaviour.
+  if (v != std::floor(v) || std::abs(v) > 2e9) {
+    throw InputError(std::string(what) + ": expected a whole number, got '" +
+                     std::string(Trim(text)) + "'");
+  }
+  return static_cast<int>(v);
+}
+
 PixelsOrLength ParsePixelsOrLength(std::string_view text,
                                    std::string_view what) {
   const std::string_view t = Trim(text);

@@ -42,6 +42,12 @@ Length ParseLength(std::string_view text, std::string_view what = {});
 // InputError naming `what` on anything else.
 double ParseNumber(std::string_view text, std::string_view what = {});
 
+// Parses a whole number (no unit) of magnitude at most 2e9, e.g. a pixel
+// count. Throws InputError "<what>: expected a whole number, got '<text>'"
+// on a fraction or a number out of that range, and as ParseNumber on
+// anything else.
+int ParseWholeNumber(std::string_view text, std::string_view what = {});
+
 // A size given either in pixels (a bare number, e.g. "480") or as an
 // object-side length with a unit (e.g. "25mm"), as --aperture-diameter takes.
 struct PixelsOrLength {

@@ -15,14 +15,6 @@ namespace {
 
 cv::Point2d ToPoint(const std::array<double, 2>& p) { return {p[0], p[1]}; }
 
-int ParseInt(const std::string& text, const std::string& what) {
-  const double v = ParseNumber(text, what);
-  if (v != static_cast<double>(static_cast<int>(v))) {
-    throw InputError(what + ": '" + text + "' must be a whole number");
-  }
-  return static_cast<int>(v);
-}
-
 // The job-level keys (besides the ring-analysis keys).
 const std::vector<std::string>& JobKeys() {
   static const std::vector<std::string> keys = {
@@ -147,7 +139,7 @@ RingsOptions RingsOptionsFromSettings(SettingMap& s) {
   }
   TakeStack(&s, &fit.stack);
   if (auto v = s.Take("sectors")) {
-    options.detection.sectors = ParseInt(*v, what("sectors"));
+    options.detection.sectors = ParseWholeNumber(*v, what("sectors"));
   }
   if (auto v = s.Take("outlier-threshold")) {
     fit.outlier_threshold = ParseNumber(*v, what("outlier-threshold"));
@@ -204,7 +196,8 @@ MapOptions MapOptionsFromSettings(SettingMap& s) {
     options.thin_side = ParseThinSide(*v, what("thin-side"));
     options.thin_side_given = true;
   }
-  if (auto v = s.Take("terms")) options.max_order = ParseInt(*v, what("terms"));
+  if (auto v = s.Take("terms"))
+    options.max_order = ParseWholeNumber(*v, what("terms"));
   if (auto v = s.Take("mode")) options.mode = ParseMapMode(*v, what("mode"));
   if (auto v = s.Take("pixel-pitch")) {
     options.pixel_pitch_m = ParseLength(*v, what("pixel-pitch")).metres;

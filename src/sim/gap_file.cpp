@@ -49,15 +49,6 @@ double ParseTilt(std::string_view text, std::string_view what,
   return ParseLength(text, what).metres;
 }
 
-int ParseInteger(std::string_view text, std::string_view what) {
-  const double v = ParseNumber(text, what);
-  if (v != std::floor(v) || std::abs(v) > 2e9) {
-    throw InputError(std::string(what) + ": expected a whole number, got '" +
-                     std::string(Trim(text)) + "'");
-  }
-  return static_cast<int>(v);
-}
-
 using Setter =
     std::function<void(const std::string& value, const std::string& what)>;
 
@@ -149,11 +140,11 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                   {"camera",
                    {{"width-px",
                      [&](const std::string& v, const std::string& w) {
-                       o.camera.width_px = ParseInteger(v, w);
+                       o.camera.width_px = ParseWholeNumber(v, w);
                      }},
                     {"height-px",
                      [&](const std::string& v, const std::string& w) {
-                       o.camera.height_px = ParseInteger(v, w);
+                       o.camera.height_px = ParseWholeNumber(v, w);
                      }},
                     {"pixel-pitch",
                      [&](const std::string& v, const std::string& w) {
@@ -193,11 +184,11 @@ SimulationOptions ParseGapFile(const IniFile& ini) {
                              w) { o.camera.gamma = ParseNumber(v, w); }},
                     {"bit-depth",
                      [&](const std::string& v, const std::string& w) {
-                       o.camera.bit_depth = ParseInteger(v, w);
+                       o.camera.bit_depth = ParseWholeNumber(v, w);
                      }},
                     {"jpeg-quality",
                      [&](const std::string& v, const std::string& w) {
-                       o.camera.jpeg_quality = ParseInteger(v, w);
+                       o.camera.jpeg_quality = ParseWholeNumber(v, w);
                      }},
                     {"seed", [&](const std::string& v, const std::string& w) {
                        const double s = ParseNumber(v, w);

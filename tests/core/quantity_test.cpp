@@ -51,6 +51,23 @@ TEST(ParseNumber, PlainNumbersOnly) {
   EXPECT_THROW(ParseNumber("inf"), InputError);
 }
 
+// Whole numbers: fractions and magnitudes beyond int are refused before any
+// conversion (a double beyond int converted to int is undefined behaviour,
+// C++20 [conv.fpint]; found by job_file_fuzz with "terms = 2222...2.9").
+TEST(ParseWholeNumber, WholeNumbersWithinIntOnly) {
+  EXPECT_EQ(ParseWholeNumber(" 36 ", "sectors"), 36);
+  EXPECT_EQ(ParseWholeNumber("-4"), -4);
+  EXPECT_EQ(ParseWholeNumber("2e9"), 2000000000);
+  for (const char* bad : {"3.5", "1e30", "-1e30", "2222222222222.9", "x"}) {
+    try {
+      ParseWholeNumber(bad, "terms");
+      ADD_FAILURE() << bad << " was accepted";
+    } catch (const InputError& e) {
+      EXPECT_EQ(std::string(e.what()).rfind("terms", 0), 0U) << e.what();
+    }
+  }
+}
+
 TEST(ParsePixelsOrLength, BareNumberIsPixelsAUnitIsALength) {
   const PixelsOrLength px = ParsePixelsOrLength(" 480 ", "--aperture-diameter");
   EXPECT_FALSE(px.length.has_value());

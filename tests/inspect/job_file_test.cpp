@@ -95,6 +95,15 @@ TEST(JobFile, BadValueNamesLineAndKey) {
   EXPECT_NE(t.find("job.ini:3: tolerance"), std::string::npos) << t;
 }
 
+// A whole-number key far beyond int is refused with its line and key (it
+// was converted to int unchecked: undefined behaviour, found by
+// job_file_fuzz).
+TEST(JobFile, HugeWholeNumberIsRefused) {
+  const std::string m = ErrorOf(std::string(kContractJob) + "sectors = 1e30\n");
+  EXPECT_NE(m.find("job.ini:13: sectors"), std::string::npos) << m;
+  EXPECT_NE(m.find("whole number"), std::string::npos) << m;
+}
+
 TEST(JobFile, RequiredKeys) {
   EXPECT_NE(ErrorOf("pixel-pitch = 32um\ntolerance = 3/4\n")
                 .find("wavelength is required"),
